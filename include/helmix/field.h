@@ -1,0 +1,55 @@
+/* helmix/field.h — the streaming synthesis pipeline: k-space sums, mix factors, and one
+ * velocity component at a time through an in-place c2r FFTW-MPI transform.
+ *
+ * Memory: one complex slab per rank (the transform is in place and the result is compacted
+ * and converted to the output precision inside the same buffer), so peak memory does not
+ * grow with the number of components. Draws are regenerated in every pass instead of stored.
+ * The field is the Fourier series of the periodic box evaluated at cell centres
+ * x = (i + 1/2) dx, with Nyquist modes and k = 0 empty, so coefficients depend only on
+ * (seed, integer wavevector, component): the same at every resolution and rank count. */
+#ifndef HELMIX_FIELD_H
+#define HELMIX_FIELD_H
+
+#include <mpi.h>
+
+#include "helmix/error.h"
+#include "helmix/grid.h"
+#include "helmix/recipe.h"
+#include "helmix/spectrum.h"
+
+typedef struct hx_field hx_field;
+
+/* What the k-space pass measured and the mix solved (global, identical on every rank). */
+typedef struct hx_field_summary {
+    int nshell;             /* shells s = 0 .. nshell-1, s = round(|k|) in units of 2 pi / lmax */
+    const double *sol;      /* per shell: solenoidal kinetic energy of the final field, sum |u_perp|^2 / 2 */
+    const double *comp;     /* per shell: compressive kinetic energy, sum |u_par|^2 / 2               */
+    const double *modes;    /* per shell: number of Fourier modes with power (both halves counted)    */
+    double fraction;        /* compressive share of kinetic energy, from the k-space sums             */
+    double vrms_k;          /* 3D rms velocity from the k-space sums (Parseval)                      */
+} hx_field_summary;
+
+/* Collective: allocate the slab of grid g and plan the in-place c2r transform.
+ * plan_flags are FFTW planner flags (FFTW_ESTIMATE, FFTW_MEASURE, ...). HX_ERR_FFTW when
+ * FFTW returns no plan, HX_ERR_MEM when the slab cannot be allocated (agreed on all ranks). */
+hx_status hx_field_create(hx_field **f, const hx_grid *g, unsigned plan_flags, MPI_Comm comm);
+
+/* Collective: draw every mode once, sum the solenoidal and compressive energies per shell,
+ * reduce them over comm and solve the mix (hx_mix_solve). r and sp must outlive f. */
+hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp);
+
+/* The summary of the last hx_field_mix. Not collective. */
+const hx_field_summary *hx_field_summary_get(const hx_field *f);
+
+/* Collective: synthesize component c (0 = x, 1 = y, 2 = z) in real space. On return *slab
+ * points to this rank's nz * Ny * Nx values (x fastest) as float (single) or double, valid
+ * until the next call; sum2 and sum1 (may be NULL) receive the global sums of v_c^2 and v_c
+ * over the written values, for an rms check independent of the k-space sums. */
+hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void **slab, double *sum2, double *sum1);
+
+/* Seconds spent in draws and in transforms so far (this rank). */
+void hx_field_timings(const hx_field *f, double *draw, double *transform);
+
+void hx_field_destroy(hx_field **f);
+
+#endif

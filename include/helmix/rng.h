@@ -1,0 +1,34 @@
+/* helmix/rng.h — per-mode random draws keyed on (seed, global integer wavevector, component).
+ *
+ * A counter-based generator (Philox4x32-10; Salmon et al. 2011, Proc. SC'11, "Parallel random
+ * numbers: as easy as 1, 2, 3") maps the key (seed) and counter (n_x, n_y, n_z, component) to
+ * 128 random bits, so a mode's draw never depends on array position, rank or grid size: the
+ * foundation of rank-count invariance and resolution nesting. Hermitian symmetry is exact:
+ * only the canonical half of k space is drawn, the other half is its complex conjugate.
+ * All functions are pure and not collective. */
+#ifndef HELMIX_RNG_H
+#define HELMIX_RNG_H
+
+#include <stdint.h>
+
+#include "helmix/recipe.h"
+
+/* The raw 128 bits for (seed, n, comp): out[0..3]. */
+void hx_rng_bits(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t comp, uint32_t out[4]);
+
+/* Two uniforms in the open interval (0, 1) with 52 random bits each, from 128 bits. */
+void hx_rng_uniform2(const uint32_t bits[4], double u[2]);
+
+/* 1 if n is in the canonical half (first nonzero of nx, ny, nz is positive), else 0. */
+static inline int hx_rng_canonical(int64_t nx, int64_t ny, int64_t nz)
+{
+    return nx > 0 || (nx == 0 && (ny > 0 || (ny == 0 && nz > 0)));
+}
+
+/* The complex draw w = (re, im) of one component of mode n, honouring w(-n) = conj(w(n)).
+ * gaussian: E|w|^2 = 1 (Box-Muller; |w|^2 is exponential with mean 1);
+ * fixed: |w| = 1 and a uniform random phase. flip negates. n = 0 gives 0. */
+void hx_rng_mode(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t comp,
+                 hx_amplitudes amp, int flip, double w[2]);
+
+#endif

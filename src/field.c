@@ -1,0 +1,277 @@
+/* field.c — k-space sums, mix and one-component-at-a-time synthesis through in-place c2r.
+ * Invariants: the complex slab holds an exactly Hermitian spectrum (draws are keyed on the
+ * canonical half); the DC and Nyquist entries are zero; the per-shell factors a_s, b_s of
+ * hx_mix_solve are applied identically in the sums and in the synthesis. */
+#include "helmix/field.h"
+
+#include <complex.h>
+#include <fftw3-mpi.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "check.h"
+#include "helmix/mix.h"
+#include "helmix/rng.h"
+
+struct hx_field {
+    hx_grid g;
+    MPI_Comm comm;
+    fftw_complex *data;
+    fftw_plan plan;
+    double *ph[3];          /* per axis: half-cell phase exp(i pi n / N) as (re, im) pairs */
+    const hx_recipe *r;
+    const hx_spectrum *sp;
+    int nshell;
+    double *sol, *comp, *modes, *a, *b; /* per shell */
+    hx_field_summary sum;
+    double t_draw, t_fft;
+};
+
+hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    hx_field *f = calloc(1, sizeof *f);
+    if (!f) st = hx_error_set(HX_ERR_MEM, "out of memory allocating the field handle");
+    if (f) {
+        f->g = *g;
+        f->comm = comm;
+        f->data = fftw_alloc_complex((size_t)g->alloc);
+        if (!f->data)
+            st = hx_error_set(HX_ERR_MEM, "cannot allocate the complex slab (%.1f MiB on rank %d)",
+                              (double)g->alloc * sizeof(fftw_complex) / 1048576.0, g->rank);
+        for (int a = 0; a < 3 && st == HX_OK; a++) {
+            f->ph[a] = malloc(2 * (size_t)g->n[a] * sizeof(double));
+            if (!f->ph[a]) st = hx_error_set(HX_ERR_MEM, "out of memory allocating phase tables");
+            else
+                for (ptrdiff_t i = 0; i < g->n[a]; i++) {
+                    double t = M_PI * (double)hx_grid_freq(i, g->n[a]) / (double)g->n[a];
+                    f->ph[a][2 * i] = cos(t);
+                    f->ph[a][2 * i + 1] = sin(t);
+                }
+        }
+    }
+    HX_TRY(hx_error_agree(comm, st));
+    double t0 = MPI_Wtime();
+    f->plan = fftw_mpi_plan_dft_c2r_3d(g->n[2], g->n[1], g->n[0], f->data, (double *)f->data, comm,
+                                       plan_flags | FFTW_MPI_TRANSPOSED_IN);
+    f->t_fft += MPI_Wtime() - t0;
+    st = f->plan ? HX_OK : hx_error_set(HX_ERR_FFTW, "FFTW could not plan a %tdx%tdx%td c2r transform on rank %d",
+                                        g->n[0], g->n[1], g->n[2], g->rank);
+    HX_TRY(hx_error_agree(comm, st));
+    *out = f;
+    return HX_OK;
+fail:
+    hx_field_destroy(&f);
+    return st;
+}
+
+/* One local mode: everything the passes need. */
+typedef struct {
+    double k;            /* |k| in units of 2 pi / lmax */
+    double khat[3];      /* unit wavevector (physical direction) */
+    double amp;          /* sqrt(E(k) / k^2) */
+    int shell;
+    int64_t n[3];
+    double weight;       /* 2 for x > 0 (the conjugate partner is not stored), 1 for x = 0 */
+} mode_t_;
+
+/* Fill m for the local array position (y, z, x); returns 0 for modes without power. */
+static int mode_at(const hx_field *f, ptrdiff_t y, ptrdiff_t z, ptrdiff_t x, mode_t_ *m)
+{
+    const hx_grid *g = &f->g;
+    if (x == g->n[0] / 2 || y == g->n[1] / 2 || z == g->n[2] / 2) return 0; /* Nyquist */
+    m->n[0] = x;
+    m->n[1] = hx_grid_freq(y, g->n[1]);
+    m->n[2] = hx_grid_freq(z, g->n[2]);
+    double kv[3], k2 = 0;
+    for (int a = 0; a < 3; a++) {
+        kv[a] = (double)m->n[a] * hx_grid_kunit(g, a);
+        k2 += kv[a] * kv[a];
+    }
+    if (k2 == 0) return 0;
+    m->k = sqrt(k2);
+    double p = hx_spectrum_mode_power(f->sp, m->k);
+    if (!(p > 0)) return 0;
+    m->amp = sqrt(p);
+    for (int a = 0; a < 3; a++) m->khat[a] = kv[a] / m->k;
+    m->shell = (int)(m->k + 0.5);
+    m->weight = x > 0 ? 2.0 : 1.0;
+    return 1;
+}
+
+/* The three complex draws of a mode, and k_hat . w. */
+static void draw(const hx_field *f, const mode_t_ *m, double complex w[3], double complex *kw)
+{
+    *kw = 0;
+    for (uint32_t c = 0; c < 3; c++) {
+        double v[2];
+        hx_rng_mode(f->r->seed, m->n[0], m->n[1], m->n[2], c, f->r->amplitudes, f->r->flip, v);
+        w[c] = v[0] + I * v[1];
+        *kw += m->khat[c] * w[c];
+    }
+}
+
+static void free_shells(hx_field *f)
+{
+    free(f->sol);
+    free(f->comp);
+    free(f->modes);
+    free(f->a);
+    free(f->b);
+    f->sol = f->comp = f->modes = f->a = f->b = NULL;
+}
+
+hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
+{
+    hx_status st = HX_OK;
+    const hx_grid *g = &f->g;
+    double *loc = NULL;
+    f->r = r;
+    f->sp = sp;
+    free_shells(f);
+    f->nshell = (int)(r->kmax + 0.5) + 2;
+    int ns = f->nshell;
+    HX_ALLOC(f->sol, ns);
+    HX_ALLOC(f->comp, ns);
+    HX_ALLOC(f->modes, ns);
+    HX_ALLOC(f->a, ns);
+    HX_ALLOC(f->b, ns);
+    HX_ALLOC(loc, 3 * (size_t)ns);
+    double t0 = MPI_Wtime();
+    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
+        for (ptrdiff_t z = 0; z < g->n[2]; z++)
+            for (ptrdiff_t x = 0; x < g->nxc; x++) {
+                mode_t_ m;
+                double complex w[3], kw;
+                if (!mode_at(f, y, z, x, &m) || m.shell >= ns) continue;
+                draw(f, &m, w, &kw);
+                double p = m.amp * m.amp * m.weight, wpar2 = creal(kw * conj(kw));
+                double w2 = 0;
+                for (int c = 0; c < 3; c++) w2 += creal(w[c] * conj(w[c]));
+                loc[m.shell] += p * (w2 - wpar2);
+                loc[ns + m.shell] += p * wpar2;
+                loc[2 * ns + m.shell] += m.weight;
+            }
+    f->t_draw += MPI_Wtime() - t0;
+    double *glob = NULL;
+    st = (glob = calloc(3 * (size_t)ns, sizeof *glob)) ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for shell sums");
+    HX_TRY(hx_error_agree(f->comm, st));
+    st = MPI_Allreduce(loc, glob, 3 * ns, MPI_DOUBLE, MPI_SUM, f->comm) == MPI_SUCCESS
+             ? HX_OK : hx_error_set(HX_ERR_MPI, "MPI_Allreduce of the shell sums failed");
+    if (st == HX_OK) {
+        memcpy(f->sol, glob, (size_t)ns * sizeof *glob);
+        memcpy(f->comp, glob + ns, (size_t)ns * sizeof *glob);
+        memcpy(f->modes, glob + 2 * ns, (size_t)ns * sizeof *glob);
+    }
+    free(glob);
+    HX_TRY(st);
+    HX_TRY(hx_mix_solve(r, f->sol, f->comp, ns, f->a, f->b));
+    /* From here on sol and comp hold the kinetic energy (|u|^2 / 2) of the final field. */
+    double es = 0, ec = 0;
+    for (int s = 0; s < ns; s++) {
+        f->sol[s] *= 0.5 * f->a[s] * f->a[s];
+        f->comp[s] *= 0.5 * f->b[s] * f->b[s];
+        es += f->sol[s];
+        ec += f->comp[s];
+    }
+    f->sum = (hx_field_summary){ns, f->sol, f->comp, f->modes, es + ec > 0 ? ec / (es + ec) : 0.0, sqrt(2.0 * (es + ec))};
+fail:
+    free(loc);
+    return st;
+}
+
+const hx_field_summary *hx_field_summary_get(const hx_field *f) { return &f->sum; }
+
+/* Write component c of every local mode into the slab (transposed layout y, z, x). */
+static void fill(hx_field *f, int c)
+{
+    const hx_grid *g = &f->g;
+    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
+        for (ptrdiff_t z = 0; z < g->n[2]; z++) {
+            double complex *row = (double complex *)f->data + ((y - g->y0) * g->n[2] + z) * g->nxc;
+            double complex pyz = (f->ph[1][2 * y] + I * f->ph[1][2 * y + 1]) * (f->ph[2][2 * z] + I * f->ph[2][2 * z + 1]);
+            for (ptrdiff_t x = 0; x < g->nxc; x++) {
+                mode_t_ m;
+                double complex w[3], kw;
+                if (!mode_at(f, y, z, x, &m) || m.shell >= f->nshell) {
+                    row[x] = 0;
+                    continue;
+                }
+                draw(f, &m, w, &kw);
+                double a = f->a[m.shell], b = f->b[m.shell];
+                double complex u = m.amp * (a * w[c] + (b - a) * m.khat[c] * kw);
+                row[x] = u * pyz * (f->ph[0][2 * x] + I * f->ph[0][2 * x + 1]);
+            }
+        }
+}
+
+/* Remove the c2r row padding and convert to the output type, in place, front to back
+ * (every destination byte lies at or before the source it replaces). */
+static void compact(hx_field *f, hx_precision prec, double *s2, double *s1)
+{
+    const hx_grid *g = &f->g;
+    const double *src = (const double *)f->data;
+    ptrdiff_t rows = g->nz * g->n[1], nx = g->n[0], stride = 2 * g->nxc;
+    double q = 0, l = 0;
+    if (prec == HX_PREC_DOUBLE) {
+        double *dst = (double *)f->data;
+        for (ptrdiff_t r = 0; r < rows; r++) {
+            memmove(dst + r * nx, src + r * stride, (size_t)nx * sizeof *dst);
+            for (ptrdiff_t i = 0; i < nx; i++) {
+                q += dst[r * nx + i] * dst[r * nx + i];
+                l += dst[r * nx + i];
+            }
+        }
+    } else {
+        float *dst = (float *)f->data;
+        for (ptrdiff_t r = 0; r < rows; r++)
+            for (ptrdiff_t i = 0; i < nx; i++) {
+                float v = (float)src[r * stride + i];
+                dst[r * nx + i] = v;
+                q += (double)v * v;
+                l += v;
+            }
+    }
+    *s2 = q;
+    *s1 = l;
+}
+
+hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void **slab, double *sum2, double *sum1)
+{
+    hx_status st = HX_OK;
+    if (c < 0 || c > 2 || !f->r) HX_FAIL(HX_ERR_ARG, "component %d requested before hx_field_mix or out of 0..2", c);
+    double t0 = MPI_Wtime();
+    fill(f, c);
+    double t1 = MPI_Wtime();
+    fftw_execute(f->plan);
+    double t2 = MPI_Wtime();
+    double loc[2], glob[2];
+    compact(f, prec, &loc[0], &loc[1]);
+    f->t_draw += t1 - t0;
+    f->t_fft += t2 - t1;
+    HX_MPI(MPI_Allreduce(loc, glob, 2, MPI_DOUBLE, MPI_SUM, f->comm));
+    if (sum2) *sum2 = glob[0];
+    if (sum1) *sum1 = glob[1];
+    *slab = f->data;
+    return HX_OK;
+fail:
+    return st;
+}
+
+void hx_field_timings(const hx_field *f, double *draw_s, double *transform_s)
+{
+    if (draw_s) *draw_s = f->t_draw;
+    if (transform_s) *transform_s = f->t_fft;
+}
+
+void hx_field_destroy(hx_field **f)
+{
+    if (!f || !*f) return;
+    if ((*f)->plan) fftw_destroy_plan((*f)->plan);
+    fftw_free((*f)->data);
+    for (int a = 0; a < 3; a++) free((*f)->ph[a]);
+    free_shells(*f);
+    free(*f);
+    *f = NULL;
+}

@@ -1,0 +1,372 @@
+/* io.c — collective parallel-HDF5 output in the Grid Data Format layout, provenance
+ * attributes, atomic rename and the XDMF sidecar.
+ * Invariant: metadata calls (create, attributes) are made by every rank with identical
+ * arguments; raw data goes through collective transfers where ranks without data select
+ * nothing; only rank 0 touches the file system by name (exists, rename, unlink, .xmf). */
+#include "helmix/io.h"
+
+#include <hdf5.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "check.h"
+#include "helmix/version.h"
+
+struct hx_io {
+    MPI_Comm comm;
+    int rank;
+    hx_grid g;
+    hx_precision prec;
+    hid_t file;
+    hid_t vel[3];
+    char path[HX_PATH_MAX];
+    char partial[HX_PATH_MAX + 16];
+};
+
+static const char *const comp_name[3] = {"velocity_x", "velocity_y", "velocity_z"};
+
+hx_status hx_io_check_target(const char *path, int force, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    int rank = 0, exists = 0;
+    HX_MPI(MPI_Comm_rank(comm, &rank));
+    if (rank == 0) {
+        struct stat sb;
+        exists = stat(path, &sb) == 0;
+    }
+    HX_MPI(MPI_Bcast(&exists, 1, MPI_INT, 0, comm));
+    if (exists && !force) HX_FAIL(HX_ERR_EXISTS, "output %s exists: choose another name or pass --force to replace it", path);
+    return HX_OK;
+fail:
+    return st;
+}
+
+/* Open group `path`, creating it (and its parents) on first use. Collective. */
+static hid_t group_open(hx_io *w, const char *path)
+{
+    if (H5Lexists(w->file, path, H5P_DEFAULT) > 0) return H5Gopen2(w->file, path, H5P_DEFAULT);
+    hid_t lcpl = H5Pcreate(H5P_LINK_CREATE);
+    if (lcpl < 0) return -1;
+    hid_t grp = -1;
+    if (H5Pset_create_intermediate_group(lcpl, 1) >= 0) grp = H5Gcreate2(w->file, path, lcpl, H5P_DEFAULT, H5P_DEFAULT);
+    H5Pclose(lcpl);
+    return grp;
+}
+
+/* Write attribute `name` of type mtype (n values, n = 0 for a scalar) on object obj. */
+static hx_status attr_write(hid_t obj, const char *name, hid_t ftype, hid_t mtype, const void *buf, int n)
+{
+    hx_status st = HX_OK;
+    hid_t space = -1, attr = -1;
+    hsize_t dim = (hsize_t)n;
+    if (H5Aexists(obj, name) > 0) HX_H5OK(H5Adelete(obj, name));
+    HX_H5(space, n > 0 ? H5Screate_simple(1, &dim, NULL) : H5Screate(H5S_SCALAR));
+    HX_H5(attr, H5Acreate2(obj, name, ftype, space, H5P_DEFAULT, H5P_DEFAULT));
+    HX_H5OK(H5Awrite(attr, mtype, buf));
+fail:
+    if (attr >= 0) H5Aclose(attr);
+    if (space >= 0) H5Sclose(space);
+    if (st != HX_OK) hx_error_set(st, "cannot write HDF5 attribute '%s': %s", name, hx_error_message());
+    return st;
+}
+
+/* Variable-length UTF-8 string (read back by h5py as str): used under /helmix. */
+static hx_status str_attr(hid_t obj, const char *name, const char *value)
+{
+    hx_status st = HX_OK;
+    hid_t t = -1;
+    HX_H5(t, H5Tcopy(H5T_C_S1));
+    HX_H5OK(H5Tset_size(t, H5T_VARIABLE));
+    HX_H5OK(H5Tset_cset(t, H5T_CSET_UTF8));
+    st = attr_write(obj, name, t, t, &value, 0);
+fail:
+    if (t >= 0) H5Tclose(t);
+    return st;
+}
+
+/* Fixed-length ASCII string: the Grid Data Format groups use these (yt decodes them as bytes). */
+static hx_status fixed_str_attr(hid_t obj, const char *name, const char *value)
+{
+    hx_status st = HX_OK;
+    hid_t t = -1;
+    HX_H5(t, H5Tcopy(H5T_C_S1));
+    HX_H5OK(H5Tset_size(t, strlen(value) + 1));
+    HX_H5OK(H5Tset_strpad(t, H5T_STR_NULLTERM));
+    st = attr_write(obj, name, t, t, value, 0);
+fail:
+    if (t >= 0) H5Tclose(t);
+    return st;
+}
+
+/* A small dataset written by rank 0 (others select nothing). Collective. */
+static hx_status small_dataset(hx_io *w, hid_t loc, const char *name, hid_t ftype, hid_t mtype, int rank_,
+                               const hsize_t *dims, const void *buf)
+{
+    hx_status st = HX_OK;
+    hid_t space = -1, dset = -1;
+    HX_H5(space, H5Screate_simple(rank_, dims, NULL));
+    HX_H5(dset, H5Dcreate2(loc, name, ftype, space, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    if (w->rank != 0) HX_H5OK(H5Sselect_none(space));
+    HX_H5OK(H5Dwrite(dset, mtype, space, space, H5P_DEFAULT, buf));
+fail:
+    if (dset >= 0) H5Dclose(dset);
+    if (space >= 0) H5Sclose(space);
+    return st;
+}
+
+static hx_status write_gdf_skeleton(hx_io *w)
+{
+    hx_status st = HX_OK;
+    hid_t grp = -1;
+    const hx_grid *g = &w->g;
+    int64_t dims[3] = {g->n[0], g->n[1], g->n[2]}, zero3[3] = {0, 0, 0};
+    double left[3] = {0, 0, 0}, right[3] = {g->box[0], g->box[1], g->box[2]}, t0 = 0.0;
+    int32_t bc[6] = {0, 0, 0, 0, 0, 0}, one = 1, three = 3, two = 2, zero = 0;
+    char uid[96];
+    snprintf(uid, sizeof uid, "helmix-%ld", (long)time(NULL));
+
+    HX_H5(grp, H5Gcreate2(w->file, "/gridded_data_format", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    HX_TRY(fixed_str_attr(grp, "data_software", "helmix"));
+    HX_TRY(fixed_str_attr(grp, "data_software_version", HX_VERSION));
+    HX_TRY(fixed_str_attr(grp, "data_comment", "turbulent velocity initial conditions (see /helmix)"));
+    H5Gclose(grp);
+    grp = -1;
+
+    HX_H5(grp, H5Gcreate2(w->file, "/simulation_parameters", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    HX_TRY(attr_write(grp, "refine_by", H5T_STD_I32LE, H5T_NATIVE_INT32, &two, 0));
+    HX_TRY(attr_write(grp, "dimensionality", H5T_STD_I32LE, H5T_NATIVE_INT32, &three, 0));
+    HX_TRY(attr_write(grp, "domain_dimensions", H5T_STD_I64LE, H5T_NATIVE_INT64, dims, 3));
+    HX_TRY(attr_write(grp, "domain_left_edge", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, left, 3));
+    HX_TRY(attr_write(grp, "domain_right_edge", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, right, 3));
+    HX_TRY(attr_write(grp, "current_time", H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, &t0, 0));
+    HX_TRY(attr_write(grp, "cosmological_simulation", H5T_STD_I32LE, H5T_NATIVE_INT32, &zero, 0));
+    HX_TRY(attr_write(grp, "num_ghost_zones", H5T_STD_I32LE, H5T_NATIVE_INT32, &zero, 0));
+    HX_TRY(attr_write(grp, "field_ordering", H5T_STD_I32LE, H5T_NATIVE_INT32, &one, 0));
+    HX_TRY(attr_write(grp, "geometry", H5T_STD_I32LE, H5T_NATIVE_INT32, &zero, 0));
+    HX_TRY(attr_write(grp, "boundary_conditions", H5T_STD_I32LE, H5T_NATIVE_INT32, bc, 6));
+    HX_TRY(fixed_str_attr(grp, "unique_identifier", uid));
+    H5Gclose(grp);
+    grp = -1;
+
+    HX_H5(grp, H5Gcreate2(w->file, "/field_types", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    for (int c = 0; c < 3; c++) {
+        hid_t sg = H5Gcreate2(grp, comp_name[c], H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+        if (sg < 0) HX_FAIL(HX_ERR_HDF5, "cannot create /field_types/%s", comp_name[c]);
+        st = fixed_str_attr(sg, "field_name", comp_name[c]);
+        if (st == HX_OK) st = fixed_str_attr(sg, "field_units", "code_length/code_time");
+        if (st == HX_OK) st = attr_write(sg, "staggering", H5T_STD_I32LE, H5T_NATIVE_INT32, &zero, 0);
+        H5Gclose(sg);
+        HX_TRY(st);
+    }
+    H5Gclose(grp);
+    grp = -1;
+    HX_H5(grp, H5Gcreate2(w->file, "/particle_types", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    H5Gclose(grp);
+    grp = -1;
+
+    hsize_t d13[2] = {1, 3}, d1 = 1, d11[2] = {1, 1};
+    int64_t lvl = 0, pid = -1, npart = 0;
+    HX_TRY(small_dataset(w, w->file, "grid_dimensions", H5T_STD_I64LE, H5T_NATIVE_INT64, 2, d13, dims));
+    HX_TRY(small_dataset(w, w->file, "grid_left_index", H5T_STD_I64LE, H5T_NATIVE_INT64, 2, d13, zero3));
+    HX_TRY(small_dataset(w, w->file, "grid_level", H5T_STD_I64LE, H5T_NATIVE_INT64, 1, &d1, &lvl));
+    HX_TRY(small_dataset(w, w->file, "grid_parent_id", H5T_STD_I64LE, H5T_NATIVE_INT64, 1, &d1, &pid));
+    HX_TRY(small_dataset(w, w->file, "grid_particle_count", H5T_STD_I64LE, H5T_NATIVE_INT64, 2, d11, &npart));
+fail:
+    if (grp >= 0) H5Gclose(grp);
+    return st;
+}
+
+static hx_status create_velocity(hx_io *w)
+{
+    hx_status st = HX_OK;
+    hid_t grp = -1, space = -1;
+    hsize_t dims[3] = {(hsize_t)w->g.n[2], (hsize_t)w->g.n[1], (hsize_t)w->g.n[0]};
+    hid_t ftype = w->prec == HX_PREC_DOUBLE ? H5T_IEEE_F64LE : H5T_IEEE_F32LE;
+    HX_H5(grp, group_open(w, "/data/grid_0000000000"));
+    HX_H5(space, H5Screate_simple(3, dims, NULL));
+    for (int c = 0; c < 3; c++)
+        HX_H5(w->vel[c], H5Dcreate2(grp, comp_name[c], ftype, space, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+fail:
+    if (space >= 0) H5Sclose(space);
+    if (grp >= 0) H5Gclose(grp);
+    return st;
+}
+
+hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_precision prec, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    hid_t fapl = -1;
+    hx_io *w = NULL;
+    HX_ALLOC(w, 1);
+    w->file = -1;
+    for (int c = 0; c < 3; c++) w->vel[c] = -1;
+    w->comm = comm;
+    w->g = *g;
+    w->prec = prec;
+    HX_MPI(MPI_Comm_rank(comm, &w->rank));
+    if (strlen(path) >= sizeof w->path) HX_FAIL(HX_ERR_ARG, "output path is longer than %d characters", HX_PATH_MAX - 1);
+    snprintf(w->path, sizeof w->path, "%s", path);
+    snprintf(w->partial, sizeof w->partial, "%s.partial", path);
+    HX_H5(fapl, H5Pcreate(H5P_FILE_ACCESS));
+    HX_H5OK(H5Pset_fapl_mpio(fapl, comm, MPI_INFO_NULL));
+    w->file = H5Fcreate(w->partial, H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
+    if (w->file < 0) HX_FAIL(HX_ERR_IO, "cannot create %s (is the directory writable?)", w->partial);
+    HX_TRY(write_gdf_skeleton(w));
+    HX_TRY(create_velocity(w));
+    H5Pclose(fapl);
+    *out = w;
+    return HX_OK;
+fail:
+    if (fapl >= 0) H5Pclose(fapl);
+    hx_io_close(&w, 0);
+    return st;
+}
+
+hx_status hx_io_write_component(hx_io *w, int c, const void *slab)
+{
+    hx_status st = HX_OK;
+    hid_t fspace = -1, mspace = -1, dxpl = -1;
+    const hx_grid *g = &w->g;
+    hsize_t start[3] = {(hsize_t)g->z0, 0, 0}, count[3] = {(hsize_t)g->nz, (hsize_t)g->n[1], (hsize_t)g->n[0]};
+    hsize_t one = 1;
+    hid_t mtype = w->prec == HX_PREC_DOUBLE ? H5T_NATIVE_DOUBLE : H5T_NATIVE_FLOAT;
+    HX_H5(fspace, H5Dget_space(w->vel[c]));
+    if (g->nz > 0) {
+        HX_H5OK(H5Sselect_hyperslab(fspace, H5S_SELECT_SET, start, NULL, count, NULL));
+        HX_H5(mspace, H5Screate_simple(3, count, NULL));
+    } else {
+        HX_H5OK(H5Sselect_none(fspace));
+        HX_H5(mspace, H5Screate_simple(1, &one, NULL));
+        HX_H5OK(H5Sselect_none(mspace));
+    }
+    HX_H5(dxpl, H5Pcreate(H5P_DATASET_XFER));
+    HX_H5OK(H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE));
+    if (H5Dwrite(w->vel[c], mtype, mspace, fspace, dxpl, slab) < 0)
+        HX_FAIL(HX_ERR_HDF5, "collective write of %s to %s failed (disk full or quota?)", comp_name[c], w->partial);
+fail:
+    if (dxpl >= 0) H5Pclose(dxpl);
+    if (mspace >= 0) H5Sclose(mspace);
+    if (fspace >= 0) H5Sclose(fspace);
+    return st;
+}
+
+hx_status hx_io_attr_string(hx_io *w, const char *group, const char *name, const char *value)
+{
+    hx_status st = HX_OK;
+    hid_t grp = -1;
+    HX_H5(grp, group_open(w, group));
+    st = str_attr(grp, name, value);
+fail:
+    if (grp >= 0) H5Gclose(grp);
+    return st;
+}
+
+static hx_status numeric_attr(hx_io *w, const char *group, const char *name, hid_t ft, hid_t mt, const void *v, int n)
+{
+    hx_status st = HX_OK;
+    hid_t grp = -1;
+    HX_H5(grp, group_open(w, group));
+    st = attr_write(grp, name, ft, mt, v, n);
+fail:
+    if (grp >= 0) H5Gclose(grp);
+    return st;
+}
+
+hx_status hx_io_attr_doubles(hx_io *w, const char *group, const char *name, const double *v, int n)
+{
+    return numeric_attr(w, group, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, v, n);
+}
+
+hx_status hx_io_attr_int64s(hx_io *w, const char *group, const char *name, const int64_t *v, int n)
+{
+    return numeric_attr(w, group, name, H5T_STD_I64LE, H5T_NATIVE_INT64, v, n);
+}
+
+hx_status hx_io_attr_uint64(hx_io *w, const char *group, const char *name, uint64_t v)
+{
+    return numeric_attr(w, group, name, H5T_STD_U64LE, H5T_NATIVE_UINT64, &v, 0);
+}
+
+hx_status hx_io_table(hx_io *w, const char *group, const char *name, const double *v, int n)
+{
+    hx_status st = HX_OK;
+    hid_t grp = -1;
+    hsize_t dim = (hsize_t)n;
+    HX_H5(grp, group_open(w, group));
+    st = small_dataset(w, grp, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 1, &dim, v);
+fail:
+    if (grp >= 0) H5Gclose(grp);
+    return st;
+}
+
+/* XDMF 3 sidecar: cell-centred vector on a uniform (co-rectilinear) mesh. Rank 0 only. */
+static hx_status write_xdmf(const hx_io *w)
+{
+    char xmf[HX_PATH_MAX + 8];
+    snprintf(xmf, sizeof xmf, "%s.xmf", w->path);
+    const char *base = strrchr(w->path, '/');
+    base = base ? base + 1 : w->path;
+    const hx_grid *g = &w->g;
+    int bytes = w->prec == HX_PREC_DOUBLE ? 8 : 4;
+    FILE *fp = fopen(xmf, "w");
+    if (!fp) return hx_error_set(HX_ERR_IO, "cannot write %s", xmf);
+    fprintf(fp, "<?xml version=\"1.0\" ?>\n<!-- helmix %s: velocity cube %s -->\n", HX_VERSION, base);
+    fprintf(fp, "<Xdmf Version=\"3.0\">\n <Domain>\n  <Grid Name=\"helmix\" GridType=\"Uniform\">\n");
+    fprintf(fp, "   <Topology TopologyType=\"3DCoRectMesh\" Dimensions=\"%td %td %td\"/>\n", g->n[2] + 1, g->n[1] + 1,
+            g->n[0] + 1);
+    fprintf(fp, "   <Geometry GeometryType=\"ORIGIN_DXDYDZ\">\n");
+    fprintf(fp, "    <DataItem Format=\"XML\" Dimensions=\"3\">0 0 0</DataItem>\n");
+    fprintf(fp, "    <DataItem Format=\"XML\" Dimensions=\"3\">%.17g %.17g %.17g</DataItem>\n", g->box[2] / (double)g->n[2],
+            g->box[1] / (double)g->n[1], g->box[0] / (double)g->n[0]);
+    fprintf(fp, "   </Geometry>\n");
+    fprintf(fp, "   <Attribute Name=\"velocity\" AttributeType=\"Vector\" Center=\"Cell\">\n");
+    fprintf(fp, "    <DataItem ItemType=\"Function\" Function=\"JOIN($0, $1, $2)\" Dimensions=\"%td %td %td 3\">\n",
+            g->n[2], g->n[1], g->n[0]);
+    for (int c = 0; c < 3; c++)
+        fprintf(fp,
+                "     <DataItem Format=\"HDF\" NumberType=\"Float\" Precision=\"%d\" Dimensions=\"%td %td %td\">"
+                "%s:/data/grid_0000000000/%s</DataItem>\n",
+                bytes, g->n[2], g->n[1], g->n[0], base, comp_name[c]);
+    fprintf(fp, "    </DataItem>\n   </Attribute>\n");
+    for (int c = 0; c < 3; c++)
+        fprintf(fp,
+                "   <Attribute Name=\"%s\" AttributeType=\"Scalar\" Center=\"Cell\">\n"
+                "    <DataItem Format=\"HDF\" NumberType=\"Float\" Precision=\"%d\" Dimensions=\"%td %td %td\">"
+                "%s:/data/grid_0000000000/%s</DataItem>\n   </Attribute>\n",
+                comp_name[c], bytes, g->n[2], g->n[1], g->n[0], base, comp_name[c]);
+    fprintf(fp, "  </Grid>\n </Domain>\n</Xdmf>\n");
+    if (fclose(fp) != 0) return hx_error_set(HX_ERR_IO, "cannot finish writing %s", xmf);
+    return HX_OK;
+}
+
+hx_status hx_io_close(hx_io **wp, int commit)
+{
+    hx_status st = HX_OK;
+    if (!wp || !*wp) return HX_OK;
+    hx_io *w = *wp;
+    for (int c = 0; c < 3; c++)
+        if (w->vel[c] >= 0 && H5Dclose(w->vel[c]) < 0) st = hx_error_set(HX_ERR_HDF5, "closing %s failed", comp_name[c]);
+    if (w->file >= 0 && H5Fclose(w->file) < 0 && st == HX_OK)
+        st = hx_error_set(HX_ERR_HDF5, "closing %s failed (data may be incomplete)", w->partial);
+    if (w->file >= 0) {
+        /* Everyone has closed before rank 0 renames; the verdict is shared. */
+        hx_status agreed = hx_error_agree(w->comm, st);
+        if (w->rank == 0) {
+            if (commit && agreed == HX_OK) {
+                if (rename(w->partial, w->path) != 0)
+                    st = hx_error_set(HX_ERR_IO, "cannot rename %s to %s", w->partial, w->path);
+                else st = write_xdmf(w);
+            } else
+                unlink(w->partial);
+        }
+        hx_status final = hx_error_agree(w->comm, st);
+        if (st == HX_OK) st = final;
+    }
+    free(w);
+    *wp = NULL;
+    return st;
+}

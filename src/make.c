@@ -1,0 +1,160 @@
+/* make.c — the generator pipeline: prolog, k-space pass, three streamed components, epilog.
+ * Invariant: every rank walks the same sequence of collective calls; a failure anywhere is
+ * agreed before the next collective, and the partial file is removed. */
+#include "helmix/make.h"
+
+#include <fftw3.h>
+#include <math.h>
+#include <stdlib.h>
+#include <sys/resource.h>
+
+#include "check.h"
+#include "helmix/field.h"
+#include "helmix/grid.h"
+#include "helmix/io.h"
+#include "helmix/mix.h"
+#include "helmix/spectrum.h"
+#include "helmix/version.h"
+
+static const char axis[3] = {'x', 'y', 'z'};
+
+hx_status hx_make_peak_rss(MPI_Comm comm, long long *bytes)
+{
+    hx_status st = HX_OK;
+    struct rusage ru;
+    long long mine = getrusage(RUSAGE_SELF, &ru) == 0 ? (long long)ru.ru_maxrss * 1024LL : 0;
+    HX_MPI(MPI_Allreduce(&mine, bytes, 1, MPI_LONG_LONG, MPI_MAX, comm));
+fail:
+    return st;
+}
+
+/* The /helmix group: the request, what was realized, and how long it took. */
+static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *g, const hx_make_result *res)
+{
+    hx_status st = HX_OK;
+    char *text = hx_recipe_render(r);
+    const char *G = "/helmix";
+    double nan = NAN, v;
+    if (!text) HX_FAIL(HX_ERR_MEM, "out of memory rendering the recipe");
+    int64_t cells[3] = {g->n[0], g->n[1], g->n[2]}, ranks = g->size;
+    HX_TRY(hx_io_attr_string(io, G, "version", HX_VERSION));
+    HX_TRY(hx_io_attr_string(io, G, "recipe", text));
+    HX_TRY(hx_io_attr_uint64(io, G, "seed", r->seed));
+    HX_TRY(hx_io_attr_int64s(io, G, "ranks", &ranks, 0));
+    HX_TRY(hx_io_attr_int64s(io, G, "cells", cells, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "box", g->box, 3));
+    HX_TRY(hx_io_attr_string(io, G, "mix_mode", r->mix_mode == HX_MIX_ZETA ? "zeta" : "compressive_fraction"));
+    HX_TRY(hx_io_attr_doubles(io, G, "zeta", r->mix_mode == HX_MIX_ZETA ? &r->zeta : &nan, 0));
+    HX_TRY(hx_io_attr_string(io, G, "exact", hx_exact_name(r->exact)));
+    v = r->mix_mode == HX_MIX_FRACTION ? r->compressive_fraction : hx_mix_expected_fraction(r->zeta);
+    HX_TRY(hx_io_attr_doubles(io, G, "expected_compressive_fraction", &v, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "compressive_fraction_target", r->exact == HX_EXACT_NONE ? &nan : &v, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "realized_compressive_fraction", &res->fraction, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "vrms", &r->vrms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "realized_vrms", &res->vrms_x, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "realized_vrms_kspace", &res->vrms_k, 0));
+    HX_TRY(hx_io_attr_string(io, G, "spectrum_shape", hx_shape_name(r->shape)));
+    HX_TRY(hx_io_attr_doubles(io, G, "slope", &r->slope, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "kmin", &r->kmin, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "kmax", &r->kmax, 0));
+    HX_TRY(hx_io_attr_string(io, G, "amplitudes", r->amplitudes == HX_AMP_FIXED ? "fixed" : "gaussian"));
+    int64_t flip = r->flip;
+    HX_TRY(hx_io_attr_int64s(io, G, "flip", &flip, 0));
+    HX_TRY(hx_io_attr_string(io, G, "precision", r->precision == HX_PREC_DOUBLE ? "double" : "single"));
+    HX_TRY(hx_io_attr_doubles(io, G, "timing_plan", &res->t_plan, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "timing_draw", &res->t_draw, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "timing_transform", res->t_transform, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "timing_write", res->t_write, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "timing_total", &res->t_total, 0));
+    int64_t rss = res->peak_rss;
+    HX_TRY(hx_io_attr_int64s(io, G, "peak_rss_bytes", &rss, 0));
+fail:
+    free(text);
+    return st;
+}
+
+/* Per-shell tables of the final field, from the k-space pass (no extra transform). */
+static hx_status write_shells(hx_io *io, const hx_field_summary *s)
+{
+    hx_status st = HX_OK;
+    const char *G = "/helmix/diagnostics";
+    double *k = NULL, *share = NULL;
+    HX_ALLOC(k, s->nshell);
+    HX_ALLOC(share, s->nshell);
+    for (int i = 0; i < s->nshell; i++) {
+        k[i] = i;
+        double e = s->sol[i] + s->comp[i];
+        share[i] = e > 0 ? s->comp[i] / e : NAN;
+    }
+    HX_TRY(hx_io_table(io, G, "shell_k", k, s->nshell));
+    HX_TRY(hx_io_table(io, G, "shell_modes", s->modes, s->nshell));
+    HX_TRY(hx_io_table(io, G, "shell_energy_solenoidal", s->sol, s->nshell));
+    HX_TRY(hx_io_table(io, G, "shell_energy_compressive", s->comp, s->nshell));
+    HX_TRY(hx_io_table(io, G, "shell_compressive_fraction", share, s->nshell));
+fail:
+    free(k);
+    free(share);
+    return st;
+}
+
+hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm comm, hx_make_result *res_out)
+{
+    hx_status st = HX_OK;
+    hx_make_result res = {0};
+    hx_grid g;
+    hx_spectrum *sp = NULL;
+    hx_field *f = NULL;
+    hx_io *io = NULL;
+    double t0 = MPI_Wtime(), t;
+
+    HX_TRY(hx_io_check_target(r->file, force, comm));
+    HX_TRY(hx_grid_init(&g, r->cells, r->box, comm));
+    HX_TRY(hx_spectrum_create(&sp, r, comm));
+    hx_log_say(log, HX_LOG_INFO, "plan: %tdx%tdx%td cells on %d rank%s, %.1f MiB complex slab per rank", g.n[0], g.n[1],
+               g.n[2], g.size, g.size > 1 ? "s" : "", (double)g.alloc * 16.0 / 1048576.0);
+    t = MPI_Wtime();
+    HX_TRY(hx_field_create(&f, &g, FFTW_ESTIMATE, comm));
+    res.t_plan = MPI_Wtime() - t;
+    hx_log_say(log, HX_LOG_INFO, "plan: done in %.2f s", res.t_plan);
+
+    t = MPI_Wtime();
+    HX_TRY(hx_field_mix(f, r, sp));
+    res.t_draw = MPI_Wtime() - t;
+    const hx_field_summary *sum = hx_field_summary_get(f);
+    res.fraction = sum->fraction;
+    res.vrms_k = sum->vrms_k;
+    hx_log_say(log, HX_LOG_INFO, "draw: k-space pass in %.2f s; compressive share %.6f, rms %.6g", res.t_draw,
+               res.fraction, res.vrms_k);
+
+    HX_TRY(hx_io_create(&io, r->file, &g, r->precision, comm));
+    double sum2 = 0;
+    for (int c = 0; c < 3; c++) {
+        const void *slab = NULL;
+        double s2 = 0, s1 = 0;
+        t = MPI_Wtime();
+        HX_TRY(hx_field_component(f, c, r->precision, &slab, &s2, &s1));
+        res.t_transform[c] = MPI_Wtime() - t;
+        t = MPI_Wtime();
+        HX_TRY(hx_io_write_component(io, c, slab));
+        res.t_write[c] = MPI_Wtime() - t;
+        sum2 += s2;
+        res.mean[c] = s1 / (double)hx_grid_cells(&g);
+        hx_log_say(log, HX_LOG_INFO, "velocity_%c: synthesized in %.2f s, written in %.2f s", axis[c], res.t_transform[c],
+                   res.t_write[c]);
+    }
+    res.vrms_x = sqrt(sum2 / (double)hx_grid_cells(&g));
+    HX_TRY(hx_make_peak_rss(comm, &res.peak_rss));
+    res.t_total = MPI_Wtime() - t0;
+    HX_TRY(write_provenance(io, r, &g, &res));
+    HX_TRY(write_shells(io, sum));
+    HX_TRY(hx_io_close(&io, 1));
+    res.t_total = MPI_Wtime() - t0;
+    hx_log_say(log, HX_LOG_INFO, "wrote %s: rms %.6g (asked %.6g), compressive share %.6f; %.2f s, peak %.1f MiB per rank",
+               r->file, res.vrms_x, r->vrms, res.fraction, res.t_total, (double)res.peak_rss / 1048576.0);
+    if (res_out) *res_out = res;
+fail:
+    if (io) hx_io_close(&io, 0);
+    hx_field_destroy(&f);
+    hx_spectrum_destroy(&sp);
+    return st;
+}
