@@ -20,10 +20,18 @@ struct hx_field {
     fftw_complex *data;
     fftw_plan plan;
     double *ph[3];          /* per axis: half-cell phase exp(i pi n / N) as (re, im) pairs */
+    double *kv[3];          /* per axis: wavenumber component n * lmax / L (NAN at Nyquist)  */
+    double kmin2, kmax2;    /* band limits, squared                                       */
+    double *tab_amp, *tab_k; /* cubic boxes: amplitude and |k| by integer k^2 (else NULL)   */
+    int64_t ntab;
     const hx_recipe *r;
     const hx_spectrum *sp;
     int nshell;
     double *sol, *comp, *modes, *a, *b; /* per shell */
+    double *loc;            /* per shell: local sums of sol, comp, modes (3 * nshell)      */
+    int deferred;           /* sums still to be taken during component 0 (exact = none)    */
+    double alpha, beta;     /* exact = none: provisional weights of the deferred pass      */
+    int ready;              /* summary valid                                              */
     hx_field_summary sum;
     double t_draw, t_fft;
 };
@@ -49,6 +57,11 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags,
                     f->ph[a][2 * i] = cos(t);
                     f->ph[a][2 * i + 1] = sin(t);
                 }
+            f->kv[a] = st == HX_OK ? malloc((size_t)g->n[a] * sizeof(double)) : NULL;
+            if (st == HX_OK && !f->kv[a]) st = hx_error_set(HX_ERR_MEM, "out of memory allocating wavenumber tables");
+            else if (st == HX_OK)
+                for (ptrdiff_t i = 0; i < g->n[a]; i++)
+                    f->kv[a][i] = i == g->n[a] / 2 ? NAN : (double)hx_grid_freq(i, g->n[a]) * hx_grid_kunit(g, a);
         }
     }
     HX_TRY(hx_error_agree(comm, st));
@@ -76,28 +89,63 @@ typedef struct {
     double weight;       /* 2 for x > 0 (the conjugate partner is not stored), 1 for x = 0 */
 } mode_t_;
 
-/* Fill m for the local array position (y, z, x); returns 0 for modes without power. */
-static int mode_at(const hx_field *f, ptrdiff_t y, ptrdiff_t z, ptrdiff_t x, mode_t_ *m)
+/* Amplitude and |k| of a mode with squared wavenumber k2 (in the band). Cubic boxes have
+ * integer k2 and use the table built by hx_field_mix; other boxes evaluate the spectrum. */
+static inline void amp_of(const hx_field *f, double k2, double *amp, double *k)
+{
+    if (f->tab_amp) {
+        int64_t q = (int64_t)(k2 + 0.5);
+        *amp = f->tab_amp[q];
+        *k = f->tab_k[q];
+    } else {
+        *k = sqrt(k2);
+        *amp = sqrt(hx_spectrum_mode_power(f->sp, *k));
+    }
+}
+
+/* Fill m for the local array position (y, z, x); returns 0 for modes without power
+ * (outside the band, k = 0, or a Nyquist index: its kv entry is NAN and fails every test). */
+static inline int mode_at(const hx_field *f, ptrdiff_t y, ptrdiff_t z, ptrdiff_t x, mode_t_ *m)
 {
     const hx_grid *g = &f->g;
-    if (x == g->n[0] / 2 || y == g->n[1] / 2 || z == g->n[2] / 2) return 0; /* Nyquist */
+    double kv[3] = {f->kv[0][x], f->kv[1][y], f->kv[2][z]};
+    double k2 = kv[0] * kv[0] + kv[1] * kv[1] + kv[2] * kv[2];
+    if (!(k2 >= f->kmin2 && k2 <= f->kmax2) || k2 == 0) return 0;
+    amp_of(f, k2, &m->amp, &m->k);
+    if (!(m->amp > 0)) return 0;
     m->n[0] = x;
     m->n[1] = hx_grid_freq(y, g->n[1]);
     m->n[2] = hx_grid_freq(z, g->n[2]);
-    double kv[3], k2 = 0;
-    for (int a = 0; a < 3; a++) {
-        kv[a] = (double)m->n[a] * hx_grid_kunit(g, a);
-        k2 += kv[a] * kv[a];
-    }
-    if (k2 == 0) return 0;
-    m->k = sqrt(k2);
-    double p = hx_spectrum_mode_power(f->sp, m->k);
-    if (!(p > 0)) return 0;
-    m->amp = sqrt(p);
-    for (int a = 0; a < 3; a++) m->khat[a] = kv[a] / m->k;
+    double inv = 1.0 / m->k;
+    for (int a = 0; a < 3; a++) m->khat[a] = kv[a] * inv;
     m->shell = (int)(m->k + 0.5);
     m->weight = x > 0 ? 2.0 : 1.0;
     return 1;
+}
+
+/* Band limits and, for cubic boxes (every k^2 an integer), the amplitude table. */
+static hx_status prepare_band(hx_field *f)
+{
+    hx_status st = HX_OK;
+    const hx_grid *g = &f->g;
+    /* a hair of slack so modes exactly on kmin or kmax are kept despite rounding of k^2 */
+    f->kmin2 = f->r->kmin * f->r->kmin * (1 - 1e-12);
+    f->kmax2 = f->r->kmax * f->r->kmax * (1 + 1e-12);
+    free(f->tab_amp);
+    free(f->tab_k);
+    f->tab_amp = f->tab_k = NULL;
+    int cubic = g->box[0] == g->box[1] && g->box[1] == g->box[2];
+    f->ntab = (int64_t)f->kmax2 + 2;
+    if (!cubic || f->ntab > (1 << 24)) return HX_OK; /* general path: evaluate per mode */
+    HX_ALLOC(f->tab_amp, f->ntab);
+    HX_ALLOC(f->tab_k, f->ntab);
+    for (int64_t q = 0; q < f->ntab; q++) {
+        f->tab_k[q] = sqrt((double)q);
+        f->tab_amp[q] = q ? sqrt(hx_spectrum_mode_power(f->sp, f->tab_k[q])) : 0.0;
+    }
+    return HX_OK;
+fail:
+    return st;
 }
 
 /* The three complex draws of a mode, and k_hat . w. */
@@ -119,54 +167,31 @@ static void free_shells(hx_field *f)
     free(f->modes);
     free(f->a);
     free(f->b);
-    f->sol = f->comp = f->modes = f->a = f->b = NULL;
+    free(f->loc);
+    f->sol = f->comp = f->modes = f->a = f->b = f->loc = NULL;
 }
 
-hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
+/* Add one mode's unscaled solenoidal and compressive energy and its count to shell sums. */
+static inline void accumulate(double *loc, int ns, const mode_t_ *m, const double complex w[3], double complex kw)
+{
+    double p = m->amp * m->amp * m->weight, wpar2 = creal(kw * conj(kw)), w2 = 0;
+    for (int c = 0; c < 3; c++) w2 += creal(w[c] * conj(w[c]));
+    loc[m->shell] += p * (w2 - wpar2);
+    loc[ns + m->shell] += p * wpar2;
+    loc[2 * ns + m->shell] += m->weight;
+}
+
+/* Reduce the local shell sums, solve the mix and keep the final field's energies.
+ * Collective. */
+static hx_status finish_mix(hx_field *f)
 {
     hx_status st = HX_OK;
-    const hx_grid *g = &f->g;
-    double *loc = NULL;
-    f->r = r;
-    f->sp = sp;
-    free_shells(f);
-    f->nshell = (int)(r->kmax + 0.5) + 2;
     int ns = f->nshell;
-    HX_ALLOC(f->sol, ns);
-    HX_ALLOC(f->comp, ns);
-    HX_ALLOC(f->modes, ns);
-    HX_ALLOC(f->a, ns);
-    HX_ALLOC(f->b, ns);
-    HX_ALLOC(loc, 3 * (size_t)ns);
-    double t0 = MPI_Wtime();
-    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
-        for (ptrdiff_t z = 0; z < g->n[2]; z++)
-            for (ptrdiff_t x = 0; x < g->nxc; x++) {
-                mode_t_ m;
-                double complex w[3], kw;
-                if (!mode_at(f, y, z, x, &m) || m.shell >= ns) continue;
-                draw(f, &m, w, &kw);
-                double p = m.amp * m.amp * m.weight, wpar2 = creal(kw * conj(kw));
-                double w2 = 0;
-                for (int c = 0; c < 3; c++) w2 += creal(w[c] * conj(w[c]));
-                loc[m.shell] += p * (w2 - wpar2);
-                loc[ns + m.shell] += p * wpar2;
-                loc[2 * ns + m.shell] += m.weight;
-            }
-    f->t_draw += MPI_Wtime() - t0;
-    double *glob = NULL;
-    st = (glob = calloc(3 * (size_t)ns, sizeof *glob)) ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for shell sums");
-    HX_TRY(hx_error_agree(f->comm, st));
-    st = MPI_Allreduce(loc, glob, 3 * ns, MPI_DOUBLE, MPI_SUM, f->comm) == MPI_SUCCESS
-             ? HX_OK : hx_error_set(HX_ERR_MPI, "MPI_Allreduce of the shell sums failed");
-    if (st == HX_OK) {
-        memcpy(f->sol, glob, (size_t)ns * sizeof *glob);
-        memcpy(f->comp, glob + ns, (size_t)ns * sizeof *glob);
-        memcpy(f->modes, glob + 2 * ns, (size_t)ns * sizeof *glob);
-    }
-    free(glob);
-    HX_TRY(st);
-    HX_TRY(hx_mix_solve(r, f->sol, f->comp, ns, f->a, f->b));
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, f->loc, 3 * ns, MPI_DOUBLE, MPI_SUM, f->comm));
+    memcpy(f->sol, f->loc, (size_t)ns * sizeof *f->sol);
+    memcpy(f->comp, f->loc + ns, (size_t)ns * sizeof *f->comp);
+    memcpy(f->modes, f->loc + 2 * ns, (size_t)ns * sizeof *f->modes);
+    HX_TRY(hx_mix_solve(f->r, f->sol, f->comp, ns, f->a, f->b));
     /* From here on sol and comp hold the kinetic energy (|u|^2 / 2) of the final field. */
     double es = 0, ec = 0;
     for (int s = 0; s < ns; s++) {
@@ -176,15 +201,59 @@ hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
         ec += f->comp[s];
     }
     f->sum = (hx_field_summary){ns, f->sol, f->comp, f->modes, es + ec > 0 ? ec / (es + ec) : 0.0, sqrt(2.0 * (es + ec))};
+    f->ready = 1;
 fail:
-    free(loc);
     return st;
 }
 
-const hx_field_summary *hx_field_summary_get(const hx_field *f) { return &f->sum; }
+hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
+{
+    hx_status st = HX_OK;
+    const hx_grid *g = &f->g;
+    f->r = r;
+    f->sp = sp;
+    f->ready = 0;
+    free_shells(f);
+    HX_TRY(prepare_band(f));
+    f->nshell = (int)(r->kmax + 0.5) + 2;
+    int ns = f->nshell;
+    HX_ALLOC(f->sol, ns);
+    HX_ALLOC(f->comp, ns);
+    HX_ALLOC(f->modes, ns);
+    HX_ALLOC(f->a, ns);
+    HX_ALLOC(f->b, ns);
+    HX_ALLOC(f->loc, 3 * (size_t)ns);
+    /* exact = none needs no look-ahead: the factors are fixed weights up to one global
+     * scale, so the sums ride along with the first component and the scale is applied to it
+     * after the transform (linearity), saving a whole pass of draws. */
+    f->deferred = r->exact == HX_EXACT_NONE;
+    if (f->deferred) {
+        hx_mix_weights(r, &f->alpha, &f->beta);
+        for (int s = 0; s < ns; s++) f->a[s] = f->alpha, f->b[s] = f->beta;
+        return HX_OK;
+    }
+    double t0 = MPI_Wtime();
+    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
+        for (ptrdiff_t z = 0; z < g->n[2]; z++)
+            for (ptrdiff_t x = 0; x < g->nxc; x++) {
+                mode_t_ m;
+                double complex w[3], kw;
+                if (!mode_at(f, y, z, x, &m)) continue;
+                draw(f, &m, w, &kw);
+                accumulate(f->loc, ns, &m, w, kw);
+            }
+    f->t_draw += MPI_Wtime() - t0;
+    st = finish_mix(f);
+fail:
+    if (st != HX_OK) free_shells(f);
+    return hx_error_agree(f->comm, st);
+}
 
-/* Write component c of every local mode into the slab (transposed layout y, z, x). */
-static void fill(hx_field *f, int c)
+const hx_field_summary *hx_field_summary_get(const hx_field *f) { return f->ready ? &f->sum : NULL; }
+
+/* Write component c of every local mode into the slab (transposed layout y, z, x); with
+ * sums, also add every mode's energies to the local shell sums. */
+static void fill(hx_field *f, int c, int sums)
 {
     const hx_grid *g = &f->g;
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
@@ -194,11 +263,12 @@ static void fill(hx_field *f, int c)
             for (ptrdiff_t x = 0; x < g->nxc; x++) {
                 mode_t_ m;
                 double complex w[3], kw;
-                if (!mode_at(f, y, z, x, &m) || m.shell >= f->nshell) {
+                if (!mode_at(f, y, z, x, &m)) {
                     row[x] = 0;
                     continue;
                 }
                 draw(f, &m, w, &kw);
+                if (sums) accumulate(f->loc, f->nshell, &m, w, kw);
                 double a = f->a[m.shell], b = f->b[m.shell];
                 double complex u = m.amp * (a * w[c] + (b - a) * m.khat[c] * kw);
                 row[x] = u * pyz * (f->ph[0][2 * x] + I * f->ph[0][2 * x + 1]);
@@ -208,7 +278,7 @@ static void fill(hx_field *f, int c)
 
 /* Remove the c2r row padding and convert to the output type, in place, front to back
  * (every destination byte lies at or before the source it replaces). */
-static void compact(hx_field *f, hx_precision prec, double *s2, double *s1)
+static void compact(hx_field *f, hx_precision prec, double scale, double *s2, double *s1)
 {
     const hx_grid *g = &f->g;
     const double *src = (const double *)f->data;
@@ -219,6 +289,7 @@ static void compact(hx_field *f, hx_precision prec, double *s2, double *s1)
         for (ptrdiff_t r = 0; r < rows; r++) {
             memmove(dst + r * nx, src + r * stride, (size_t)nx * sizeof *dst);
             for (ptrdiff_t i = 0; i < nx; i++) {
+                dst[r * nx + i] *= scale;
                 q += dst[r * nx + i] * dst[r * nx + i];
                 l += dst[r * nx + i];
             }
@@ -227,7 +298,7 @@ static void compact(hx_field *f, hx_precision prec, double *s2, double *s1)
         float *dst = (float *)f->data;
         for (ptrdiff_t r = 0; r < rows; r++)
             for (ptrdiff_t i = 0; i < nx; i++) {
-                float v = (float)src[r * stride + i];
+                float v = (float)(scale * src[r * stride + i]);
                 dst[r * nx + i] = v;
                 q += (double)v * v;
                 l += v;
@@ -241,18 +312,25 @@ hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void *
 {
     hx_status st = HX_OK;
     if (c < 0 || c > 2 || !f->r) HX_FAIL(HX_ERR_ARG, "component %d requested before hx_field_mix or out of 0..2", c);
+    if (f->deferred && c != 0 && !f->ready) HX_FAIL(HX_ERR_ARG, "with exact = none component 0 must come first");
+    int sums = f->deferred && !f->ready;
     double t0 = MPI_Wtime();
-    fill(f, c);
-    double t1 = MPI_Wtime();
-    fftw_execute(f->plan);
+    fill(f, c, sums);
+    double t1 = MPI_Wtime(), scale = 1.0;
+    if (sums) {
+        HX_TRY(hx_error_agree(f->comm, finish_mix(f)));
+        scale = f->alpha > 0 ? f->a[0] / f->alpha : f->b[0] / f->beta; /* the global factor of hx_mix_solve */
+    }
     double t2 = MPI_Wtime();
-    double loc[2], glob[2];
-    compact(f, prec, &loc[0], &loc[1]);
+    fftw_execute(f->plan);
+    double t3 = MPI_Wtime();
+    double loc[2];
+    compact(f, prec, scale, &loc[0], &loc[1]);
     f->t_draw += t1 - t0;
-    f->t_fft += t2 - t1;
-    HX_MPI(MPI_Allreduce(loc, glob, 2, MPI_DOUBLE, MPI_SUM, f->comm));
-    if (sum2) *sum2 = glob[0];
-    if (sum1) *sum1 = glob[1];
+    f->t_fft += t3 - t2;
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, loc, 2, MPI_DOUBLE, MPI_SUM, f->comm));
+    if (sum2) *sum2 = loc[0];
+    if (sum1) *sum1 = loc[1];
     *slab = f->data;
     return HX_OK;
 fail:
@@ -270,7 +348,12 @@ void hx_field_destroy(hx_field **f)
     if (!f || !*f) return;
     if ((*f)->plan) fftw_destroy_plan((*f)->plan);
     fftw_free((*f)->data);
-    for (int a = 0; a < 3; a++) free((*f)->ph[a]);
+    for (int a = 0; a < 3; a++) {
+        free((*f)->ph[a]);
+        free((*f)->kv[a]);
+    }
+    free((*f)->tab_amp);
+    free((*f)->tab_k);
     free_shells(*f);
     free(*f);
     *f = NULL;

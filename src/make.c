@@ -119,12 +119,8 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
 
     t = MPI_Wtime();
     HX_TRY(hx_field_mix(f, r, sp));
-    res.t_draw = MPI_Wtime() - t;
-    const hx_field_summary *sum = hx_field_summary_get(f);
-    res.fraction = sum->fraction;
-    res.vrms_k = sum->vrms_k;
-    hx_log_say(log, HX_LOG_INFO, "draw: k-space pass in %.2f s; compressive share %.6f, rms %.6g", res.t_draw,
-               res.fraction, res.vrms_k);
+    if (hx_field_summary_get(f))
+        hx_log_say(log, HX_LOG_INFO, "draw: k-space pass for the mix in %.2f s", MPI_Wtime() - t);
 
     HX_TRY(hx_io_create(&io, r->file, &g, r->precision, comm));
     double sum2 = 0;
@@ -143,6 +139,10 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
                    res.t_write[c]);
     }
     res.vrms_x = sqrt(sum2 / (double)hx_grid_cells(&g));
+    const hx_field_summary *sum = hx_field_summary_get(f);
+    res.fraction = sum->fraction;
+    res.vrms_k = sum->vrms_k;
+    hx_field_timings(f, &res.t_draw, NULL);
     HX_TRY(hx_make_peak_rss(comm, &res.peak_rss));
     res.t_total = MPI_Wtime() - t0;
     HX_TRY(write_provenance(io, r, &g, &res));

@@ -20,6 +20,17 @@ double hx_mix_realized_fraction(const double *sol, const double *comp, const dou
     return es + ec > 0 ? ec / (es + ec) : 0.0;
 }
 
+void hx_mix_weights(const hx_recipe *r, double *alpha, double *beta)
+{
+    if (r->mix_mode == HX_MIX_FRACTION) {
+        *alpha = sqrt(1.0 - r->compressive_fraction);
+        *beta = sqrt(2.0 * r->compressive_fraction);
+    } else {
+        *alpha = r->zeta;
+        *beta = 1.0 - r->zeta;
+    }
+}
+
 static double target_fraction(const hx_recipe *r)
 {
     return r->mix_mode == HX_MIX_FRACTION ? r->compressive_fraction : hx_mix_expected_fraction(r->zeta);
@@ -51,12 +62,14 @@ hx_status hx_mix_solve(const hx_recipe *r, const double *sol, const double *comp
     if (!(ssum + csum > 0))
         return hx_error_set(HX_ERR_ARG, "the spectrum puts no power on any mode of this grid: check kmin, kmax and the shape");
     if (r->exact == HX_EXACT_NONE) {
-        double z = r->zeta, e = z * z * ssum + (1 - z) * (1 - z) * csum;
-        if (!(e > 0)) return hx_error_set(HX_ERR_ARG, "zeta = %g leaves no power on this draw", z);
+        double al, be;
+        hx_mix_weights(r, &al, &be);
+        double e = al * al * ssum + be * be * csum;
+        if (!(e > 0)) return hx_error_set(HX_ERR_ARG, "the requested mix leaves no power on this draw");
         double c = sqrt(v2 / e);
         for (int s = 0; s < nshell; s++) {
-            a[s] = z * c;
-            b[s] = (1 - z) * c;
+            a[s] = al * c;
+            b[s] = be * c;
         }
         return HX_OK;
     }

@@ -1,4 +1,4 @@
-/* rng.c — Philox4x32-10 draws keyed on the global wavevector; Box-Muller for Gaussians. */
+/* rng.c — Philox4x32-10 draws keyed on the global wavevector; polar-method Gaussians. */
 #include "helmix/rng.h"
 
 #include <math.h>
@@ -13,17 +13,12 @@ void hx_rng_bits(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t com
     for (int i = 0; i < 4; i++) out[i] = r.v[i];
 }
 
-void hx_rng_uniform2(const uint32_t b[4], double u[2])
-{
-    /* 52 bits each, offset by half a step so neither 0 nor 1 occurs (log(u) stays finite):
-     * the largest value, 1 - 2^-53, is exactly representable; with 53 bits it would round to 1. */
-    const double step = 1.0 / 4503599627370496.0; /* 2^-52 */
-    uint64_t m0 = ((uint64_t)b[0] << 20) | (b[1] >> 12);
-    uint64_t m1 = ((uint64_t)b[2] << 20) | (b[3] >> 12);
-    u[0] = ((double)m0 + 0.5) * step;
-    u[1] = ((double)m1 + 0.5) * step;
-}
-
+/* Marsaglia's polar method (Marsaglia & Bray 1964, SIAM Review 6, 260): a point (x, y) uniform
+ * in the unit disc gives |w|^2 = -ln s (exponential, mean 1) and phase (x + iy)/sqrt(s) without
+ * any sine or cosine. Each 128-bit block offers two candidate points; a mode whose candidates
+ * all miss the disc (probability (1 - pi/4)^2 per block) moves on to the next block, keyed by a
+ * round number in the high bits of the component word, so the draw stays a pure function of
+ * (seed, n, comp). */
 void hx_rng_mode(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t comp,
                  hx_amplitudes amp, int flip, double w[2])
 {
@@ -32,14 +27,21 @@ void hx_rng_mode(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t com
         return;
     }
     int canon = hx_rng_canonical(nx, ny, nz);
-    uint32_t bits[4];
-    double u[2];
-    if (canon) hx_rng_bits(seed, nx, ny, nz, comp, bits);
-    else hx_rng_bits(seed, -nx, -ny, -nz, comp, bits);
-    hx_rng_uniform2(bits, u);
-    double r = amp == HX_AMP_FIXED ? 1.0 : sqrt(-log(u[0]));
-    double phi = 2.0 * M_PI * u[1];
-    double s = flip ? -r : r;
-    w[0] = s * cos(phi);
-    w[1] = (canon ? s : -s) * sin(phi);
+    if (!canon) nx = -nx, ny = -ny, nz = -nz;
+    const double step = 1.0 / 2147483648.0; /* 2^-31: coordinates in (-1, 1) */
+    double x = 0, y = 0, s = 0;
+    for (uint32_t round = 0; !(s > 0 && s < 1); round++) {
+        uint32_t b[4];
+        hx_rng_bits(seed, nx, ny, nz, comp | (round << 8), b);
+        for (int j = 0; j < 4; j += 2) {
+            x = ((double)b[j] + 0.5) * step - 1.0;
+            y = ((double)b[j + 1] + 0.5) * step - 1.0;
+            s = x * x + y * y;
+            if (s > 0 && s < 1) break;
+        }
+    }
+    double f = amp == HX_AMP_FIXED ? 1.0 / sqrt(s) : sqrt(-log(s) / s);
+    if (flip) f = -f;
+    w[0] = f * x;
+    w[1] = (canon ? f : -f) * y;
 }

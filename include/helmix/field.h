@@ -35,10 +35,12 @@ typedef struct hx_field_summary {
 hx_status hx_field_create(hx_field **f, const hx_grid *g, unsigned plan_flags, MPI_Comm comm);
 
 /* Collective: draw every mode once, sum the solenoidal and compressive energies per shell,
- * reduce them over comm and solve the mix (hx_mix_solve). r and sp must outlive f. */
+ * reduce them over comm and solve the mix (hx_mix_solve). r and sp must outlive f.
+ * With exact = none the mix needs no look-ahead, so this pass is folded into the synthesis of
+ * component 0 (which must then come first) and the summary is ready only after it. */
 hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp);
 
-/* The summary of the last hx_field_mix. Not collective. */
+/* The summary of the mix, or NULL while it is not known yet. Not collective. */
 const hx_field_summary *hx_field_summary_get(const hx_field *f);
 
 /* Collective: synthesize component c (0 = x, 1 = y, 2 = z) in real space. On return *slab

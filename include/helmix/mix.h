@@ -15,9 +15,15 @@
  * (1-zeta)^2 / (1 - 2 zeta + 3 zeta^2) (Federrath et al. 2010, A&A 512, A81). */
 double hx_mix_expected_fraction(double zeta);
 
+/* Weights (alpha, beta) of the solenoidal and compressive parts for a free draw (exact = none):
+ * zeta gives (zeta, 1 - zeta); a compressive fraction f gives (sqrt(1 - f), sqrt(2 f)), whose
+ * expected share is f because an isotropic draw holds twice as much power across k as along it. */
+void hx_mix_weights(const hx_recipe *r, double *alpha, double *beta);
+
 /* Solve for a[s], b[s], s = 0..nshell-1, given per-shell sums sol[s], comp[s] of the
  * unscaled parts. Rules:
- *  zeta, exact = none : a = zeta c, b = (1-zeta) c, one c for all shells giving rms vrms;
+ *  exact = none       : a = alpha c, b = beta c (hx_mix_weights), one c for all shells
+ *                       giving rms vrms;
  *  exact = total      : target share f (the fraction, or the expected share of zeta) of the
  *                       whole field; a, b the same in every shell;
  *  exact = shell      : share f in every shell, each shell keeping its unmixed energy

@@ -16,9 +16,6 @@
 /* The raw 128 bits for (seed, n, comp): out[0..3]. */
 void hx_rng_bits(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t comp, uint32_t out[4]);
 
-/* Two uniforms in the open interval (0, 1) with 52 random bits each, from 128 bits. */
-void hx_rng_uniform2(const uint32_t bits[4], double u[2]);
-
 /* 1 if n is in the canonical half (first nonzero of nx, ny, nz is positive), else 0. */
 static inline int hx_rng_canonical(int64_t nx, int64_t ny, int64_t nz)
 {
@@ -26,7 +23,7 @@ static inline int hx_rng_canonical(int64_t nx, int64_t ny, int64_t nz)
 }
 
 /* The complex draw w = (re, im) of one component of mode n, honouring w(-n) = conj(w(n)).
- * gaussian: E|w|^2 = 1 (Box-Muller; |w|^2 is exponential with mean 1);
+ * gaussian: E|w|^2 = 1 (polar method; |w|^2 is exponential with mean 1);
  * fixed: |w| = 1 and a uniform random phase. flip negates. n = 0 gives 0. */
 void hx_rng_mode(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t comp,
                  hx_amplitudes amp, int flip, double w[2]);

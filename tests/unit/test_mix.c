@@ -44,6 +44,15 @@ static void test_rules(void)
     CHECK_CLOSE(energy(sol, comp, a, b, NS), 4.0, 1e-13);
     CHECK_CLOSE(a[2] / b[2], 0.3 / 0.7, 1e-14);
 
+    /* a freely drawn fraction: weights (sqrt(1-f), sqrt(2f)) so that with E sol = 2 E comp per
+     * mode (two transverse directions, one longitudinal) the expected share is f */
+    r.mix_mode = HX_MIX_FRACTION, r.compressive_fraction = 0.4;
+    const double iso_sol[NS] = {0, 2, 2, 2, 2, 2}, iso_comp[NS] = {0, 1, 1, 1, 1, 1};
+    CHECK(hx_mix_solve(&r, iso_sol, iso_comp, NS, a, b) == HX_OK);
+    CHECK_CLOSE(hx_mix_realized_fraction(iso_sol, iso_comp, a, b, NS), 0.4, 1e-14);
+    CHECK_CLOSE(energy(iso_sol, iso_comp, a, b, NS), 4.0, 1e-13);
+    r.mix_mode = HX_MIX_ZETA;
+
     r.exact = HX_EXACT_TOTAL; /* pinned to the expected share of zeta */
     CHECK(hx_mix_solve(&r, sol, comp, NS, a, b) == HX_OK);
     CHECK_CLOSE(hx_mix_realized_fraction(sol, comp, a, b, NS), hx_mix_expected_fraction(0.3), 1e-14);
