@@ -128,7 +128,11 @@ static hx_status load_recipe(const make_args *a, hx_recipe *r, MPI_Comm comm)
         if (strlen(a->output) >= sizeof r->file) return hx_error_set(HX_ERR_ARG, "-o: path too long");
         snprintf(r->file, sizeof r->file, "%s", a->output);
     }
-    if (st == HX_OK) st = hx_recipe_validate(r);
+    if (st == HX_OK && (st = hx_recipe_validate(r)) != HX_OK) {
+        char msg[1024]; /* cross-key rules know the key, not the line: name the file at least */
+        snprintf(msg, sizeof msg, "%s", hx_error_message());
+        hx_error_set(st, "%s: %s", a->recipe, msg);
+    }
     return st;
 }
 

@@ -1,0 +1,51 @@
+/* helmix/diag.h — what a velocity cube holds: the summary `helmix inspect` measures and
+ * `helmix make` records, with its definitions.
+ *
+ * Definitions (N cells, v̂_n = (1/N) Σ_x v(x) e^{-i k_n·x}, physical k_n = 2π n_a / L_a,
+ * |k| in units of 2π/max L for shells, shell s = round|k|; the k = 0 mode is the mean flow
+ * and is left out of every energy, spectrum and gradient):
+ *   mean_c = <v_c>, rms_c = <v_c^2>^(1/2), rms3 = <|v|^2>^(1/2)
+ *   e_total = ½ Σ_{n≠0} |v̂_n|^2, e_comp = ½ Σ |k̂·v̂|^2, e_sol = e_total − e_comp,
+ *   fraction = e_comp / e_total (Helmholtz decomposition by projection, common practice)
+ *   shell_e[s], shell_comp[s], shell_sol[s]: the same sums over shell s; shell_modes[s]: count
+ *   slope: least-squares index of E ∝ k^-slope over shells [fit_kmin, fit_kmax], fitted to the
+ *          shell sums compensated for the discrete mode count, shell_e[s] · 4πs² / modes[s]
+ *   div_rms = <|∇·v|^2>^(1/2) = (Σ |k·v̂|^2)^(1/2); vort_rms = (Σ |k×v̂|^2)^(1/2);
+ *   div_ratio, vort_ratio: each divided by (Σ |k|^2 |v̂|^2)^(1/2), so div² + vort² ratios = 1
+ *   skew_c, kurt_c: <(v_c−m)^3>/σ^3 and <(v_c−m)^4>/σ^4 − 3 (excess), σ^2 = <(v_c−m)^2>
+ *   pdf[c][b]: density of (v_c − m)/σ in HX_DIAG_BINS bins over [−HX_DIAG_PDF_RANGE, +range] */
+#ifndef HELMIX_DIAG_H
+#define HELMIX_DIAG_H
+
+#include <stdint.h>
+
+#define HX_DIAG_BINS 100
+#define HX_DIAG_PDF_RANGE 5.0
+
+typedef struct hx_diag {
+    int64_t cells[3]; /* Nx, Ny, Nz */
+    double box[3];
+    int ranks;
+    /* real space */
+    double mean[3], rms[3], rms3;
+    double skew[3], kurt[3];
+    double pdf[3][HX_DIAG_BINS]; /* probability density per bin of the standardized value */
+    /* k space */
+    double e_total, e_comp, e_sol, fraction;
+    int nshell;                  /* shells s = 0 .. nshell-1 */
+    double *shell_e, *shell_comp, *shell_sol, *shell_modes;
+    double fit_kmin, fit_kmax, slope, slope_err;
+    double div_rms, vort_rms, div_ratio, vort_ratio;
+    /* mid-plane slices z = Nz/2 (rank 0 only; NULL elsewhere or when not computed):
+     * slice_n[0] * slice_n[1] values, x fastest */
+    int64_t slice_n[2];
+    double *slice_speed, *slice_div, *slice_vort;
+    /* how the cube was analysed */
+    double remove_scale;         /* 0: none */
+    int mass_weighted;           /* 1: the field analysed is sqrt(rho) v */
+} hx_diag;
+
+/* Free the arrays of d (not d itself) and zero it. Accepts NULL. */
+void hx_diag_clear(hx_diag *d);
+
+#endif
