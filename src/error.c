@@ -44,7 +44,10 @@ hx_status hx_error_at(hx_status st, const char *file, int line, const char *fmt,
     vsnprintf(what, sizeof what, fmt, ap);
     va_end(ap);
     const char *base = strrchr(file, '/');
-    snprintf(last_msg, sizeof last_msg, "%s (%.64s:%d)", what, base ? base + 1 : file, line);
+    if (st == HX_ERR_ARG || st == HX_ERR_EXISTS) /* the user's mistake: say what, not where in helmix */
+        snprintf(last_msg, sizeof last_msg, "%s", what);
+    else /* helmix's or the system's: the source location helps a bug report */
+        snprintf(last_msg, sizeof last_msg, "%s (%.64s:%d)", what, base ? base + 1 : file, line);
     return st;
 }
 

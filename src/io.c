@@ -214,7 +214,7 @@ hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_preci
     HX_H5(fapl, H5Pcreate(H5P_FILE_ACCESS));
     HX_H5OK(H5Pset_fapl_mpio(fapl, comm, MPI_INFO_NULL));
     w->file = H5Fcreate(w->partial, H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
-    if (w->file < 0) HX_FAIL(HX_ERR_IO, "cannot create %s (is the directory writable?)", w->partial);
+    if (w->file < 0) HX_FAIL(HX_ERR_ARG, "cannot create %s (does the directory exist and is it writable?)", w->partial);
     HX_TRY(write_gdf_skeleton(w));
     HX_TRY(create_velocity(w));
     H5Pclose(fapl);

@@ -437,7 +437,7 @@ static const key keys[] = {
      parse_zeta, show_zeta, 0, 0},
     {"mix", "compressive_fraction", "number in [0, 1]", NULL, "none (zeta is used)", "0.3", NULL,
      "compressive (curl-free) share of the kinetic energy, asked for directly instead of zeta\n"
-     "Give compressive_fraction or zeta, not both. With it, exact defaults to total and cannot be none.",
+     "Give compressive_fraction or zeta, not both. With it, exact defaults to total; exact = none draws freely with that expected share.",
      parse_fraction, show_fraction, 0, 0},
     {"mix", "exact", "none | total | shell", NULL, "none with zeta, total with compressive_fraction", "none",
      NULL,
