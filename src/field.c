@@ -28,7 +28,7 @@ struct hx_field {
     const hx_spectrum *sp;
     int nshell;
     double *sol, *comp, *modes, *a, *b; /* per shell */
-    double *loc;            /* per shell: local sums of sol, comp, modes (3 * nshell)      */
+    double *loc;            /* per shell: local sums of sol, comp, modes, k^2 sol, k^2 comp */
     int deferred;           /* sums still to be taken during component 0 (exact = none)    */
     double alpha, beta;     /* exact = none: provisional weights of the deferred pass      */
     int ready;              /* summary valid                                              */
@@ -78,6 +78,8 @@ fail:
     hx_field_destroy(&f);
     return st;
 }
+
+enum { NSUM = 5 }; /* per-shell sums: sol, comp, modes, k^2 sol, k^2 comp */
 
 /* One local mode: everything the passes need. */
 typedef struct {
@@ -178,7 +180,26 @@ static inline void accumulate(double *loc, int ns, const mode_t_ *m, const doubl
     for (int c = 0; c < 3; c++) w2 += creal(w[c] * conj(w[c]));
     loc[m->shell] += p * (w2 - wpar2);
     loc[ns + m->shell] += p * wpar2;
-    loc[2 * ns + m->shell] += m->weight;
+    loc[3 * ns + m->shell] += p * m->k * m->k * (w2 - wpar2); /* for the rms vorticity */
+    loc[4 * ns + m->shell] += p * m->k * m->k * wpar2;        /* for the rms divergence */
+}
+
+/* Count the Fourier modes of every shell below ns, whether or not they carry power, with the
+ * conventions of inspect (Nyquist at -N/2, weight 1 on the kx = 0 and kx = Nx/2 planes), so a
+ * mode-count-compensated spectrum means the same in both. */
+static void count_modes(const hx_field *f, double *modes, int ns)
+{
+    const hx_grid *g = &f->g;
+    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
+        for (ptrdiff_t z = 0; z < g->n[2]; z++) {
+            double ky = (double)hx_grid_freq(y, g->n[1]) * hx_grid_kunit(g, 1);
+            double kz = (double)hx_grid_freq(z, g->n[2]) * hx_grid_kunit(g, 2), b2 = ky * ky + kz * kz;
+            for (ptrdiff_t x = 0; x < g->nxc; x++) {
+                double kx = (double)hx_grid_freq(x, g->n[0]) * hx_grid_kunit(g, 0), k2 = b2 + kx * kx;
+                int s = (int)(sqrt(k2) + 0.5);
+                if (k2 > 0 && s < ns) modes[s] += (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
+            }
+        }
 }
 
 /* Reduce the local shell sums, solve the mix and keep the final field's energies.
@@ -187,20 +208,25 @@ static hx_status finish_mix(hx_field *f)
 {
     hx_status st = HX_OK;
     int ns = f->nshell;
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, f->loc, 3 * ns, MPI_DOUBLE, MPI_SUM, f->comm));
+    count_modes(f, f->loc + 2 * ns, ns);
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, f->loc, NSUM * ns, MPI_DOUBLE, MPI_SUM, f->comm));
     memcpy(f->sol, f->loc, (size_t)ns * sizeof *f->sol);
     memcpy(f->comp, f->loc + ns, (size_t)ns * sizeof *f->comp);
     memcpy(f->modes, f->loc + 2 * ns, (size_t)ns * sizeof *f->modes);
     HX_TRY(hx_mix_solve(f->r, f->sol, f->comp, ns, f->a, f->b));
     /* From here on sol and comp hold the kinetic energy (|u|^2 / 2) of the final field. */
-    double es = 0, ec = 0;
+    double es = 0, ec = 0, ks = 0, kc = 0;
     for (int s = 0; s < ns; s++) {
         f->sol[s] *= 0.5 * f->a[s] * f->a[s];
         f->comp[s] *= 0.5 * f->b[s] * f->b[s];
         es += f->sol[s];
         ec += f->comp[s];
+        ks += f->a[s] * f->a[s] * f->loc[3 * ns + s];
+        kc += f->b[s] * f->b[s] * f->loc[4 * ns + s];
     }
-    f->sum = (hx_field_summary){ns, f->sol, f->comp, f->modes, es + ec > 0 ? ec / (es + ec) : 0.0, sqrt(2.0 * (es + ec))};
+    const double kphys = 2.0 * M_PI / f->g.lmax; /* |k| above is in units of 2 pi / lmax */
+    f->sum = (hx_field_summary){ns, f->sol, f->comp, f->modes, es + ec > 0 ? ec / (es + ec) : 0.0, sqrt(2.0 * (es + ec)),
+                                kphys * sqrt(kc), kphys * sqrt(ks + kc)};
     f->ready = 1;
 fail:
     return st;
@@ -222,7 +248,7 @@ hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
     HX_ALLOC(f->modes, ns);
     HX_ALLOC(f->a, ns);
     HX_ALLOC(f->b, ns);
-    HX_ALLOC(f->loc, 3 * (size_t)ns);
+    HX_ALLOC(f->loc, NSUM * (size_t)ns);
     /* exact = none needs no look-ahead: the factors are fixed weights up to one global
      * scale, so the sums ride along with the first component and the scale is applied to it
      * after the transform (linearity), saving a whole pass of draws. */

@@ -6,9 +6,11 @@
 #include <fftw3.h>
 #include <math.h>
 #include <stdlib.h>
+#include <string.h>
 #include <sys/resource.h>
 
 #include "check.h"
+#include "helmix/diag.h"
 #include "helmix/field.h"
 #include "helmix/grid.h"
 #include "helmix/io.h"
@@ -73,24 +75,70 @@ fail:
     return st;
 }
 
-/* Per-shell tables of the final field, from the k-space pass (no extra transform). */
-static hx_status write_shells(hx_io *io, const hx_field_summary *s)
+/* The summary of the cube as inspect would measure it, from the k-space sums of the mix and
+ * the moments of the values written: no transform beyond the three of the synthesis. */
+static hx_status fill_diag(hx_diag *d, const hx_field_summary *sum, const hx_grid *g, const hx_recipe *r)
+{
+    hx_status st = HX_OK;
+    for (int a = 0; a < 3; a++) d->cells[a] = g->n[a], d->box[a] = g->box[a];
+    d->ranks = g->size;
+    HX_TRY(hx_diag_shells(d, sum->nshell));
+    for (int s = 0; s < sum->nshell; s++) {
+        d->shell_e[s] = sum->sol[s] + sum->comp[s];
+        d->shell_comp[s] = sum->comp[s];
+        d->shell_modes[s] = sum->modes[s];
+    }
+    d->div_rms = sum->div_rms;
+    d->vort_rms = sqrt(fmax(sum->grad_rms * sum->grad_rms - sum->div_rms * sum->div_rms, 0.0));
+    d->div_ratio = sum->grad_rms > 0 ? d->div_rms / sum->grad_rms : NAN;
+    d->vort_ratio = sum->grad_rms > 0 ? d->vort_rms / sum->grad_rms : NAN;
+    d->fit_kmin = r->kmin;
+    d->fit_kmax = r->kmax;
+    hx_diag_finish(d);
+fail:
+    return st;
+}
+
+/* /helmix/diagnostics: the same numbers inspect reports, as attributes and small tables. */
+static hx_status write_diag(hx_io *io, const hx_diag *d)
 {
     hx_status st = HX_OK;
     const char *G = "/helmix/diagnostics";
-    double *k = NULL, *share = NULL;
-    HX_ALLOC(k, s->nshell);
-    HX_ALLOC(share, s->nshell);
-    for (int i = 0; i < s->nshell; i++) {
-        k[i] = i;
-        double e = s->sol[i] + s->comp[i];
-        share[i] = e > 0 ? s->comp[i] / e : NAN;
+    int ns = d->nshell;
+    double *k = NULL, *share = NULL, fit[2] = {d->fit_kmin, d->fit_kmax}, edges[HX_DIAG_BINS + 1];
+    HX_ALLOC(k, ns);
+    HX_ALLOC(share, ns);
+    for (int s = 0; s < ns; s++) {
+        k[s] = s;
+        share[s] = d->shell_e[s] > 0 ? d->shell_comp[s] / d->shell_e[s] : NAN;
     }
-    HX_TRY(hx_io_table(io, G, "shell_k", k, s->nshell));
-    HX_TRY(hx_io_table(io, G, "shell_modes", s->modes, s->nshell));
-    HX_TRY(hx_io_table(io, G, "shell_energy_solenoidal", s->sol, s->nshell));
-    HX_TRY(hx_io_table(io, G, "shell_energy_compressive", s->comp, s->nshell));
-    HX_TRY(hx_io_table(io, G, "shell_compressive_fraction", share, s->nshell));
+    for (int b = 0; b <= HX_DIAG_BINS; b++) edges[b] = -HX_DIAG_PDF_RANGE + 2.0 * HX_DIAG_PDF_RANGE * b / HX_DIAG_BINS;
+    HX_TRY(hx_io_attr_doubles(io, G, "mean", d->mean, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "rms", d->rms, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "rms_3d", &d->rms3, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "skewness", d->skew, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "excess_kurtosis", d->kurt, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "energy_total", &d->e_total, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "energy_compressive", &d->e_comp, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "energy_solenoidal", &d->e_sol, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "compressive_fraction", &d->fraction, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "divergence_rms", &d->div_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "vorticity_rms", &d->vort_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "divergence_ratio", &d->div_ratio, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "vorticity_ratio", &d->vort_ratio, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "slope", &d->slope, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "slope_stderr", &d->slope_err, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "slope_fit_range", fit, 2));
+    HX_TRY(hx_io_table(io, G, "shell_k", k, ns));
+    HX_TRY(hx_io_table(io, G, "shell_modes", d->shell_modes, ns));
+    HX_TRY(hx_io_table(io, G, "shell_energy", d->shell_e, ns));
+    HX_TRY(hx_io_table(io, G, "shell_energy_compressive", d->shell_comp, ns));
+    HX_TRY(hx_io_table(io, G, "shell_energy_solenoidal", d->shell_sol, ns));
+    HX_TRY(hx_io_table(io, G, "shell_compressive_fraction", share, ns));
+    HX_TRY(hx_io_table(io, G, "pdf_edges", edges, HX_DIAG_BINS + 1));
+    HX_TRY(hx_io_table(io, G, "pdf_x", d->pdf[0], HX_DIAG_BINS));
+    HX_TRY(hx_io_table(io, G, "pdf_y", d->pdf[1], HX_DIAG_BINS));
+    HX_TRY(hx_io_table(io, G, "pdf_z", d->pdf[2], HX_DIAG_BINS));
 fail:
     free(k);
     free(share);
@@ -105,6 +153,8 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     hx_spectrum *sp = NULL;
     hx_field *f = NULL;
     hx_io *io = NULL;
+    hx_diag diag;
+    memset(&diag, 0, sizeof diag);
     double t0 = MPI_Wtime(), t;
 
     HX_TRY(hx_io_check_target(r->file, force, comm));
@@ -134,6 +184,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
         HX_TRY(hx_io_write_component(io, c, slab));
         res.t_write[c] = MPI_Wtime() - t;
         sum2 += s2;
+        HX_TRY(hx_diag_moments(&diag, c, slab, r->precision, g.nz * g.n[1], g.n[0], g.n[0], hx_grid_cells(&g), comm));
         res.mean[c] = s1 / (double)hx_grid_cells(&g);
         hx_log_say(log, HX_LOG_INFO, "velocity_%c: synthesized in %.2f s, written in %.2f s", axis[c], res.t_transform[c],
                    res.t_write[c]);
@@ -143,10 +194,11 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     res.fraction = sum->fraction;
     res.vrms_k = sum->vrms_k;
     hx_field_timings(f, &res.t_draw, NULL);
+    HX_TRY(fill_diag(&diag, sum, &g, r));
     HX_TRY(hx_make_peak_rss(comm, &res.peak_rss));
     res.t_total = MPI_Wtime() - t0;
     HX_TRY(write_provenance(io, r, &g, &res));
-    HX_TRY(write_shells(io, sum));
+    HX_TRY(write_diag(io, &diag));
     HX_TRY(hx_io_close(&io, 1));
     res.t_total = MPI_Wtime() - t0;
     hx_log_say(log, HX_LOG_INFO, "wrote %s: rms %.6g (asked %.6g), compressive share %.6f; %.2f s, peak %.1f MiB per rank",
@@ -156,5 +208,6 @@ fail:
     if (io) hx_io_close(&io, 0);
     hx_field_destroy(&f);
     hx_spectrum_destroy(&sp);
+    hx_diag_clear(&diag);
     return st;
 }

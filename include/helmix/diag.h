@@ -17,7 +17,11 @@
 #ifndef HELMIX_DIAG_H
 #define HELMIX_DIAG_H
 
+#include <mpi.h>
 #include <stdint.h>
+
+#include "helmix/error.h"
+#include "helmix/recipe.h"
 
 #define HX_DIAG_BINS 100
 #define HX_DIAG_PDF_RANGE 5.0
@@ -47,5 +51,25 @@ typedef struct hx_diag {
 
 /* Free the arrays of d (not d itself) and zero it. Accepts NULL. */
 void hx_diag_clear(hx_diag *d);
+
+/* Allocate zeroed shell arrays for nshell shells (frees earlier ones). */
+hx_status hx_diag_shells(hx_diag *d, int nshell);
+
+/* Collective: mean, rms, skewness, excess kurtosis and PDF of component c from this rank's
+ * real values: rows rows of nx values each, rows `stride` elements apart, as float
+ * (single) or double. ntotal is the global number of values. Three passes over the local
+ * data (mean; central moments; histogram) so the moments do not lose digits to
+ * cancellation. */
+hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec, int64_t rows, int64_t nx,
+                          int64_t stride, int64_t ntotal, MPI_Comm comm);
+
+/* Energies, share and slope from the filled shell arrays (not collective): e_total,
+ * e_comp, e_sol, fraction, and the slope fit over [fit_kmin, fit_kmax]. */
+void hx_diag_finish(hx_diag *d);
+
+/* Least-squares fit of log(shell_e[s] 4 pi s^2 / modes[s]) against log s over shells
+ * kmin <= s <= kmax with power; *slope is minus the fitted exponent and *err its standard
+ * error. NAN when fewer than three shells qualify. */
+void hx_diag_fit_slope(const hx_diag *d, double kmin, double kmax, double *slope, double *err);
 
 #endif

@@ -27,6 +27,8 @@ typedef struct hx_field_summary {
     const double *modes;    /* per shell: number of Fourier modes with power (both halves counted)    */
     double fraction;        /* compressive share of kinetic energy, from the k-space sums             */
     double vrms_k;          /* 3D rms velocity from the k-space sums (Parseval)                      */
+    double div_rms;         /* rms of div v, (sum |k . u|^2)^(1/2), physical k = 2 pi n / L          */
+    double grad_rms;        /* (sum |k|^2 |u|^2)^(1/2): the rms velocity gradient                    */
 } hx_field_summary;
 
 /* Collective: allocate the slab of grid g and plan the in-place c2r transform.

@@ -1,90 +1,32 @@
 /* main.c — the helmix command line: a thin front end over libhelmix.
  *
- * Reads arguments, reads the recipe once on rank 0 and broadcasts its text, lets every rank
- * parse and validate the same text (so all reach the same verdict), runs the library, and
- * maps the agreed status to an exit code: 0 success, 2 bad input, 3 run-time failure. */
+ * Prolog (MPI, a private communicator that returns errors), dispatch to one command file
+ * (cmd_make.c, cmd_inspect.c), epilog. Exit codes: 0 success, 1 a --check found a
+ * difference, 2 bad input, 3 run-time failure. */
 #include <hdf5.h>
 #include <mpi.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include "cli.h"
 #include "helmix/error.h"
-#include "helmix/log.h"
-#include "helmix/make.h"
 #include "helmix/recipe.h"
 #include "helmix/version.h"
 
-enum { EXIT_INPUT = 2, EXIT_RUNTIME = 3 };
-
-static int exit_code(hx_status st)
+int hx_cli_exit_code(hx_status st)
 {
-    if (st == HX_OK) return 0;
-    return st == HX_ERR_ARG || st == HX_ERR_EXISTS ? EXIT_INPUT : EXIT_RUNTIME;
+    if (st == HX_OK) return HX_EXIT_OK;
+    return st == HX_ERR_ARG || st == HX_ERR_EXISTS ? HX_EXIT_INPUT : HX_EXIT_RUNTIME;
 }
 
-static void usage(FILE *out)
+int hx_cli_fail(hx_status st, int rank)
 {
-    fprintf(out,
-            "helmix %s — turbulent velocity cubes with a chosen compressive/solenoidal mix\n\n"
-            "usage:\n"
-            "  mpiexec -n P helmix make RECIPE [-o FILE] [--set section.key=value]... [--force] [--quiet]\n"
-            "  helmix template            print an annotated recipe with every key\n"
-            "  helmix make --help         options of make and the recipe keys\n"
-            "  helmix --version\n\n"
-            "exit status: 0 success, 2 bad input (recipe, options, existing output), 3 run-time failure\n",
-            HX_VERSION);
+    if (st != HX_OK && rank == 0 && hx_error_message()[0]) fprintf(stderr, "helmix: error: %s\n", hx_error_message());
+    return hx_cli_exit_code(st);
 }
 
-static void make_usage(FILE *out)
-{
-    fprintf(out,
-            "usage: mpiexec -n P helmix make RECIPE [options]\n\n"
-            "Generate a Gaussian random velocity cube as the recipe asks and write it as HDF5\n"
-            "(Grid Data Format, opened by yt.load) plus an XDMF sidecar FILE.xmf.\n\n"
-            "options:\n"
-            "  -o, --output FILE          output file (overrides [output] file)\n"
-            "  --set section.key=value    override one recipe key; may be repeated\n"
-            "  --force                    replace an existing output file\n"
-            "  --quiet                    no progress lines\n"
-            "  --verbose                  more progress lines\n"
-            "  -h, --help                 this text\n\n"
-            "recipe keys (helmix template prints an annotated recipe):\n");
-    hx_recipe_print_keys(out);
-}
-
-typedef struct {
-    const char *recipe;
-    const char *output;
-    const char **sets;
-    int nsets, force, verbosity, help;
-} make_args;
-
-static hx_status parse_make_args(int argc, char **argv, make_args *a)
-{
-    a->verbosity = HX_LOG_INFO;
-    for (int i = 0; i < argc; i++) {
-        const char *s = argv[i];
-        if (!strcmp(s, "-h") || !strcmp(s, "--help")) a->help = 1;
-        else if (!strcmp(s, "--force")) a->force = 1;
-        else if (!strcmp(s, "--quiet") || !strcmp(s, "-q")) a->verbosity = HX_LOG_QUIET;
-        else if (!strcmp(s, "--verbose") || !strcmp(s, "-v")) a->verbosity = HX_LOG_DEBUG;
-        else if (!strcmp(s, "-o") || !strcmp(s, "--output") || !strcmp(s, "--set")) {
-            if (i + 1 >= argc) return hx_error_set(HX_ERR_ARG, "option %s needs a value", s);
-            if (s[1] == 'o' || s[2] == 'o') a->output = argv[++i];
-            else a->sets[a->nsets++] = argv[++i];
-        } else if (!strncmp(s, "--set=", 6)) a->sets[a->nsets++] = s + 6;
-        else if (!strncmp(s, "--output=", 9)) a->output = s + 9;
-        else if (s[0] == '-' && s[1]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix make --help)", s);
-        else if (a->recipe) return hx_error_set(HX_ERR_ARG, "more than one recipe given ('%s' and '%s')", a->recipe, s);
-        else a->recipe = s;
-    }
-    if (!a->help && !a->recipe) return hx_error_set(HX_ERR_ARG, "no recipe given (helmix template > run.ini writes one)");
-    return HX_OK;
-}
-
-/* Rank 0 reads the file; every rank gets the text. Collective. */
-static hx_status read_broadcast(const char *path, char **text, MPI_Comm comm)
+hx_status hx_cli_read_text(const char *path, char **text, MPI_Comm comm)
 {
     int rank = 0;
     long len = -1;
@@ -103,72 +45,46 @@ static hx_status read_broadcast(const char *path, char **text, MPI_Comm comm)
         if (fp) fclose(fp);
     }
     if (MPI_Bcast(&len, 1, MPI_LONG, 0, comm) != MPI_SUCCESS) return hx_error_set(HX_ERR_MPI, "MPI_Bcast failed");
-    if (len < 0) return hx_error_set(HX_ERR_ARG, "%s: cannot read the recipe file", path);
-    if (rank != 0 && !(buf = malloc((size_t)len + 1))) return hx_error_set(HX_ERR_MEM, "out of memory for the recipe");
+    if (len < 0) return hx_error_set(HX_ERR_ARG, "%s: cannot read the file", path);
+    if (rank != 0 && !(buf = malloc((size_t)len + 1))) return hx_error_set(HX_ERR_MEM, "out of memory reading %s", path);
     if (MPI_Bcast(buf, (int)len + 1, MPI_CHAR, 0, comm) != MPI_SUCCESS) {
         free(buf);
-        return hx_error_set(HX_ERR_MPI, "MPI_Bcast of the recipe failed");
+        return hx_error_set(HX_ERR_MPI, "MPI_Bcast of %s failed", path);
     }
     *text = buf;
     return HX_OK;
 }
 
-static hx_status load_recipe(const make_args *a, hx_recipe *r, MPI_Comm comm)
+static void usage(FILE *out)
 {
-    char *text = NULL, dir[HX_PATH_MAX] = ".";
-    hx_status st = read_broadcast(a->recipe, &text, comm);
-    if (st != HX_OK) return st;
-    const char *slash = strrchr(a->recipe, '/');
-    if (slash) snprintf(dir, sizeof dir, "%.*s", (int)(slash - a->recipe), a->recipe);
-    hx_recipe_defaults(r);
-    st = hx_recipe_parse(r, text, a->recipe, dir);
-    free(text);
-    for (int i = 0; st == HX_OK && i < a->nsets; i++) st = hx_recipe_set(r, a->sets[i]);
-    if (st == HX_OK && a->output) {
-        if (strlen(a->output) >= sizeof r->file) return hx_error_set(HX_ERR_ARG, "-o: path too long");
-        snprintf(r->file, sizeof r->file, "%s", a->output);
-    }
-    if (st == HX_OK && (st = hx_recipe_validate(r)) != HX_OK) {
-        char msg[1024]; /* cross-key rules know the key, not the line: name the file at least */
-        snprintf(msg, sizeof msg, "%s", hx_error_message());
-        hx_error_set(st, "%s: %s", a->recipe, msg);
-    }
-    return st;
-}
-
-static hx_status cmd_make(int argc, char **argv, MPI_Comm comm, int rank)
-{
-    make_args a = {0};
-    const char *sets[256];
-    a.sets = sets;
-    hx_status st = argc > 256 ? hx_error_set(HX_ERR_ARG, "too many arguments") : parse_make_args(argc, argv, &a);
-    if (st == HX_OK && a.help) {
-        if (rank == 0) make_usage(stdout);
-        return HX_OK;
-    }
-    hx_recipe r;
-    if (st == HX_OK) st = load_recipe(&a, &r, comm);
-    st = hx_error_agree(comm, st);
-    if (st != HX_OK) return st;
-    hx_log log;
-    hx_log_init(&log, comm, a.verbosity, stderr);
-    hx_log_say(&log, HX_LOG_INFO, "helmix %s make %s -> %s", HX_VERSION, a.recipe, r.file);
-    return hx_error_agree(comm, hx_make_run(&r, a.force, &log, comm, NULL));
+    fprintf(out,
+            "helmix %s — turbulent velocity cubes with a chosen compressive/solenoidal mix\n\n"
+            "usage:\n"
+            "  mpiexec -n P helmix make RECIPE [-o FILE] [--set section.key=value]... [--force] [--quiet]\n"
+            "  mpiexec -n P helmix inspect FILE [--check] [--json F] [--csv F] [--plot F.png|F.pdf] [...]\n"
+            "  helmix template            print an annotated recipe with every key\n"
+            "  helmix make --help         options of make and the recipe keys\n"
+            "  helmix inspect --help      options of inspect\n"
+            "  helmix --version\n\n"
+            "exit status: 0 success, 1 inspect --check found a difference, 2 bad input (recipe,\n"
+            "options, files, existing output), 3 run-time failure\n",
+            HX_VERSION);
 }
 
 int main(int argc, char **argv)
 {
     if (MPI_Init(&argc, &argv) != MPI_SUCCESS) {
         fprintf(stderr, "helmix: MPI_Init failed\n");
-        return EXIT_RUNTIME;
+        return HX_EXIT_RUNTIME;
     }
     MPI_Comm comm;
     int rank = 0;
     hx_status st = HX_OK;
+    int code = HX_EXIT_OK;
     if (MPI_Comm_dup(MPI_COMM_WORLD, &comm) != MPI_SUCCESS || MPI_Comm_set_errhandler(comm, MPI_ERRORS_RETURN) != MPI_SUCCESS ||
         MPI_Comm_rank(comm, &rank) != MPI_SUCCESS) {
         fprintf(stderr, "helmix: cannot set up the MPI communicator\n");
-        MPI_Abort(MPI_COMM_WORLD, EXIT_RUNTIME);
+        MPI_Abort(MPI_COMM_WORLD, HX_EXIT_RUNTIME);
     }
     H5Eset_auto2(H5E_DEFAULT, NULL, NULL); /* helmix reports HDF5 failures in its own words */
 
@@ -182,12 +98,14 @@ int main(int argc, char **argv)
     } else if (!strcmp(cmd, "template")) {
         if (rank == 0) hx_recipe_template(stdout);
     } else if (!strcmp(cmd, "make")) {
-        st = cmd_make(argc - 2, argv + 2, comm, rank);
+        code = hx_cmd_make(argc - 2, argv + 2, comm, rank);
+    } else if (!strcmp(cmd, "inspect")) {
+        code = hx_cmd_inspect(argc - 2, argv + 2, comm, rank);
     } else {
-        st = hx_error_set(HX_ERR_ARG, "unknown command '%s' (commands: make, template; see helmix --help)", cmd);
+        st = hx_error_set(HX_ERR_ARG, "unknown command '%s' (commands: make, inspect, template; see helmix --help)", cmd);
     }
-    if (st != HX_OK && rank == 0 && hx_error_message()[0]) fprintf(stderr, "helmix: error: %s\n", hx_error_message());
+    if (st != HX_OK) code = hx_cli_fail(st, rank);
     MPI_Comm_free(&comm);
     MPI_Finalize();
-    return exit_code(st);
+    return code;
 }

@@ -1,0 +1,27 @@
+/* helmix/inspect.h — measure what a velocity cube holds: Helmholtz decomposition, shell
+ * spectra, gradients, one-point statistics and mid-plane slices, streaming one component at
+ * a time through an in-place r2c FFTW-MPI transform with at most two complex slabs per rank. */
+#ifndef HELMIX_INSPECT_H
+#define HELMIX_INSPECT_H
+
+#include <mpi.h>
+
+#include "helmix/cube.h"
+#include "helmix/diag.h"
+#include "helmix/log.h"
+#include "helmix/verdict.h"
+
+typedef struct hx_inspect_opts {
+    hx_cube_spec cube;
+    double remove_scale; /* > 0: subtract the Gaussian-smoothed flow on this scale (code length) */
+    double fit[2];       /* slope fit range in shells; {0, 0}: the request's band or [2, N/4] */
+    int slices;          /* 1: compute mid-plane slices (rank 0) for the report picture       */
+} hx_inspect_opts;
+
+/* Collective: analyse the cube of o into d (arrays allocated here; hx_diag_clear frees).
+ * q receives the request recorded in a helmix file (*found = 1) or defaults for the data's
+ * precision (*found = 0). Errors are agreed on every rank. */
+hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm comm, hx_diag *d, hx_request *q,
+                         int *found);
+
+#endif

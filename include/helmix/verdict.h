@@ -1,0 +1,50 @@
+/* helmix/verdict.h — requested versus measured: the table behind `helmix inspect --check`.
+ *
+ * A request comes from the /helmix group of a helmix file (what make was asked and what it
+ * recorded) or from --expect on the command line; each quantity carries the tolerance it is
+ * judged with, chosen from the precision of the data and, for statistical quantities, from
+ * the scatter a Gaussian draw allows. Pure functions, not collective. */
+#ifndef HELMIX_VERDICT_H
+#define HELMIX_VERDICT_H
+
+#include <stdio.h>
+
+#include "helmix/diag.h"
+
+typedef struct hx_request {
+    int has_vrms, has_fraction, has_slope, has_shell_fraction, has_recorded;
+    double vrms, fraction, slope;   /* requested values                                  */
+    double recorded_fraction;       /* share make says it wrote (free draws)              */
+    double expected_fraction;       /* ensemble expectation, reported for information     */
+    double tol_vrms, tol_fraction, tol_slope; /* vrms tolerance is relative              */
+    double fit_kmin, fit_kmax;      /* band of the request, for the slope fit (0: none)    */
+    int single;                     /* data stored in single precision                    */
+} hx_request;
+
+#define HX_VERDICT_MAX 12
+
+typedef struct hx_verdict_line {
+    char quantity[48];
+    double requested, measured, tolerance; /* tolerance NAN: information only, no verdict */
+    int passed;
+} hx_verdict_line;
+
+typedef struct hx_verdict {
+    int n, passed;
+    hx_verdict_line line[HX_VERDICT_MAX];
+} hx_verdict;
+
+/* Default tolerances for data of the given precision (single = 1) and amplitude kind. */
+void hx_request_defaults(hx_request *q, int single, int fixed_amplitudes);
+
+/* Parse "fraction=0.3,slope=2,vrms=1" (--expect) or the same keys for --tolerance into q.
+ * HX_ERR_ARG naming the option, the key and what is allowed. */
+hx_status hx_request_parse(hx_request *q, const char *text, int tolerances, const char *option);
+
+/* Judge d against q. */
+void hx_verdict_judge(const hx_request *q, const hx_diag *d, hx_verdict *v);
+
+/* Print the requested-vs-measured table with PASS/FAIL per line and the overall verdict. */
+void hx_verdict_print(const hx_verdict *v, FILE *out);
+
+#endif

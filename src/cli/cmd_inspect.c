@@ -1,0 +1,187 @@
+/* cmd_inspect.c — `helmix inspect`: options, the analysis, then the table, the files asked
+ * for and, with --check, the verdict that decides the exit status (0 pass, 1 fail). */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+#include "helmix/inspect.h"
+#include "helmix/plot.h"
+#include "helmix/report.h"
+#include "helmix/version.h"
+
+static void inspect_usage(FILE *out)
+{
+    fprintf(out,
+            "usage: mpiexec -n P helmix inspect FILE [options]\n\n"
+            "Measure what a velocity cube holds: mean and rms, kinetic energy in compressive and\n"
+            "solenoidal modes, shell spectra, slope, rms divergence and vorticity, one-point PDFs.\n"
+            "Reads helmix files and any HDF5 cube.\n\n"
+            "input:\n"
+            "  --vector PX,PY,PZ       three 3-D datasets holding vx, vy, vz\n"
+            "  --vector P              one 4-D dataset with a component axis of length 3 (first or last)\n"
+            "                          (default: the helmix layout /data/grid_0000000000/velocity_x|y|z)\n"
+            "  --order zyx|xyz         axis order of the datasets: zyx (default) = (Nz, Ny, Nx), x fastest;\n"
+            "                          xyz = (Nx, Ny, Nz), z fastest\n"
+            "  --box Lx,Ly,Lz          box size when the file does not record it (default 1,1,1)\n"
+            "  --density PATH          mass weighting: decompose sqrt(rho) v (common practice for\n"
+            "                          compressible turbulence), PATH a 3-D dataset of the same shape\n"
+            "analysis:\n"
+            "  --remove-scale L        subtract the flow smoothed with a Gaussian of width L (code\n"
+            "                          length) first, so bulk motions on scales above L are not counted\n"
+            "  --fit KMIN,KMAX         shells of the slope fit (default: the recorded band, else [2, N/4])\n"
+            "verdict:\n"
+            "  --check                 compare with the request recorded in the file's /helmix group\n"
+            "                          (or with --expect); exit 0 if every line passes, 1 if not\n"
+            "  --expect fraction=F,slope=S,vrms=V   what the cube should hold (any subset)\n"
+            "  --tolerance fraction=F,slope=S,vrms=V  tolerances (vrms relative)\n"
+            "output:\n"
+            "  --json FILE             every number as JSON\n"
+            "  --csv FILE              per-shell table\n"
+            "  --plot FILE.png|.pdf    one report page\n"
+            "  --quiet                 no progress lines\n");
+}
+
+typedef struct {
+    hx_inspect_opts o;
+    const char *json, *csv, *plot, *expect, *tolerance;
+    int check, help, verbosity;
+} inspect_args;
+
+static hx_status numbers(const char *opt, const char *text, double *v, int n)
+{
+    char buf[256];
+    snprintf(buf, sizeof buf, "%s", text);
+    char *save = NULL, *tok = strtok_r(buf, ",", &save);
+    for (int i = 0; i < n; i++, tok = strtok_r(NULL, ",", &save)) {
+        char *end = NULL;
+        if (!tok || (v[i] = strtod(tok, &end), end == tok || *end) || !isfinite(v[i]))
+            return hx_error_set(HX_ERR_ARG, "%s %s: need %d comma-separated number%s", opt, text, n, n > 1 ? "s" : "");
+    }
+    if (tok) return hx_error_set(HX_ERR_ARG, "%s %s: need %d comma-separated number%s", opt, text, n, n > 1 ? "s" : "");
+    return HX_OK;
+}
+
+static hx_status option_value(hx_inspect_opts *o, inspect_args *a, const char *opt, const char *val)
+{
+    if (!strcmp(opt, "--vector")) o->cube.vector = val;
+    else if (!strcmp(opt, "--density")) o->cube.density = val;
+    else if (!strcmp(opt, "--json")) a->json = val;
+    else if (!strcmp(opt, "--csv")) a->csv = val;
+    else if (!strcmp(opt, "--plot")) a->plot = val;
+    else if (!strcmp(opt, "--expect")) a->expect = val;
+    else if (!strcmp(opt, "--tolerance")) a->tolerance = val;
+    else if (!strcmp(opt, "--order")) {
+        if (!strcmp(val, "zyx")) o->cube.order = HX_ORDER_ZYX;
+        else if (!strcmp(val, "xyz")) o->cube.order = HX_ORDER_XYZ;
+        else return hx_error_set(HX_ERR_ARG, "--order %s: must be zyx or xyz", val);
+    } else if (!strcmp(opt, "--box")) {
+        hx_status st = numbers(opt, val, o->cube.box, 3);
+        if (st != HX_OK) return st;
+        for (int i = 0; i < 3; i++)
+            if (!(o->cube.box[i] > 0)) return hx_error_set(HX_ERR_ARG, "--box %s: every side must be > 0", val);
+        o->cube.has_box = 1;
+    } else if (!strcmp(opt, "--remove-scale")) {
+        hx_status st = numbers(opt, val, &o->remove_scale, 1);
+        if (st != HX_OK) return st;
+        if (!(o->remove_scale > 0)) return hx_error_set(HX_ERR_ARG, "--remove-scale %s: must be a length > 0", val);
+    } else if (!strcmp(opt, "--fit")) {
+        hx_status st = numbers(opt, val, o->fit, 2);
+        if (st != HX_OK) return st;
+        if (!(o->fit[0] >= 1 && o->fit[1] > o->fit[0]))
+            return hx_error_set(HX_ERR_ARG, "--fit %s: need 1 <= KMIN < KMAX (shells)", val);
+    } else
+        return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix inspect --help)", opt);
+    return HX_OK;
+}
+
+static hx_status parse_args(int argc, char **argv, inspect_args *a)
+{
+    a->verbosity = HX_LOG_INFO;
+    for (int i = 0; i < argc; i++) {
+        const char *s = argv[i];
+        if (!strcmp(s, "-h") || !strcmp(s, "--help")) a->help = 1;
+        else if (!strcmp(s, "--check")) a->check = 1;
+        else if (!strcmp(s, "--quiet") || !strcmp(s, "-q")) a->verbosity = HX_LOG_QUIET;
+        else if (!strncmp(s, "--", 2)) {
+            const char *eq = strchr(s, '=');
+            char opt[64];
+            const char *val;
+            if (eq) {
+                snprintf(opt, sizeof opt, "%.*s", (int)(eq - s), s);
+                val = eq + 1;
+            } else {
+                snprintf(opt, sizeof opt, "%s", s);
+                if (i + 1 >= argc) return hx_error_set(HX_ERR_ARG, "option %s needs a value", s);
+                val = argv[++i];
+            }
+            hx_status st = option_value(&a->o, a, opt, val);
+            if (st != HX_OK) return st;
+        } else if (s[0] == '-' && s[1]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix inspect --help)", s);
+        else if (a->o.cube.file) return hx_error_set(HX_ERR_ARG, "more than one file given ('%s' and '%s')", a->o.cube.file, s);
+        else a->o.cube.file = s;
+    }
+    if (!a->help && !a->o.cube.file) return hx_error_set(HX_ERR_ARG, "no file given (helmix inspect --help)");
+    if (a->plot) {
+        const char *dot = strrchr(a->plot, '.');
+        if (!dot || (strcasecmp(dot, ".png") && strcasecmp(dot, ".pdf")))
+            return hx_error_set(HX_ERR_ARG, "--plot %s: the file name must end in .png or .pdf", a->plot);
+    }
+    a->o.slices = a->plot != NULL;
+    return HX_OK;
+}
+
+/* Rank 0: table, verdict, files. Returns the status of writing the files. */
+static hx_status outputs(const inspect_args *a, const hx_diag *d, const hx_request *q, const hx_verdict *v)
+{
+    hx_status st = HX_OK;
+    hx_report_print(stdout, d, a->o.cube.file);
+    if (a->check) hx_verdict_print(v, stdout);
+    fflush(stdout);
+    if (a->json && st == HX_OK) st = hx_report_json(a->json, d, a->check ? v : NULL, a->o.cube.file);
+    if (a->csv && st == HX_OK) st = hx_report_csv(a->csv, d);
+    if (a->plot && st == HX_OK) {
+        char title[512];
+        snprintf(title, sizeof title, "%s   %lld x %lld x %lld cells   helmix %s", a->o.cube.file, (long long)d->cells[0],
+                 (long long)d->cells[1], (long long)d->cells[2], HX_VERSION);
+        hx_plot_request pr = {q->has_slope ? q->slope : NAN, q->has_fraction ? q->fraction : NAN, title};
+        st = hx_plot_report(d, &pr, a->plot);
+    }
+    return st;
+}
+
+int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
+{
+    inspect_args a;
+    memset(&a, 0, sizeof a);
+    hx_status st = parse_args(argc, argv, &a);
+    if (st == HX_OK && a.help) {
+        if (rank == 0) inspect_usage(stdout);
+        return HX_EXIT_OK;
+    }
+    if (st != HX_OK) return hx_cli_fail(st, rank);
+    hx_log log;
+    hx_log_init(&log, comm, a.verbosity, stderr);
+    hx_diag d;
+    hx_request q;
+    int found = 0;
+    st = hx_inspect_run(&a.o, &log, comm, &d, &q, &found);
+    if (st != HX_OK) return hx_cli_fail(st, rank);
+    /* --expect replaces what the file recorded; --tolerance adjusts either */
+    if (a.expect) {
+        hx_request_defaults(&q, q.single, 0);
+        q.tol_fraction = 0.01, q.tol_vrms = 0.01;
+        st = hx_request_parse(&q, a.expect, 0, "--expect");
+    }
+    if (st == HX_OK && a.tolerance) st = hx_request_parse(&q, a.tolerance, 1, "--tolerance");
+    hx_verdict v;
+    hx_verdict_judge(&q, &d, &v);
+    if (st == HX_OK && a.check && v.n == 0)
+        st = hx_error_set(HX_ERR_ARG, "--check: %s records no request; say what to expect with --expect", a.o.cube.file);
+    if (st == HX_OK && rank == 0) st = outputs(&a, &d, &q, &v);
+    st = hx_error_agree(comm, st);
+    hx_diag_clear(&d);
+    if (st != HX_OK) return hx_cli_fail(st, rank);
+    return a.check && !v.passed ? HX_EXIT_CHECK : HX_EXIT_OK;
+}

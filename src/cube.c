@@ -1,0 +1,334 @@
+/* cube.c — collective reading of velocity cubes (helmix files and foreign HDF5 layouts) into
+ * the z slabs of an in-place r2c transform, and of the request a helmix file records.
+ * Invariant: every rank opens, selects and reads with identical metadata calls; a rank that
+ * owns no planes selects nothing but still takes part in each collective read. */
+#include "helmix/cube.h"
+
+#include <hdf5.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "check.h"
+
+#define NAME_LEN 512
+
+struct hx_cube {
+    MPI_Comm comm;
+    char path[HX_PATH_MAX];
+    hid_t file;
+    hid_t dset[4];          /* x, y, z (or the 4-D set in all three), density */
+    char name[4][NAME_LEN];
+    int four_d, comp_first; /* 4-D layout: component axis first (1) or last (0) */
+    hx_order order;
+    int64_t n[3];           /* Nx, Ny, Nz */
+    double box[3];
+    int single;
+};
+
+static const char *const helmix_names[3] = {"/data/grid_0000000000/velocity_x", "/data/grid_0000000000/velocity_y",
+                                            "/data/grid_0000000000/velocity_z"};
+
+/* Open dataset `name`; on failure say which file lacks which dataset. */
+static hx_status open_set(hx_cube *cu, int slot, const char *name, const char *hint)
+{
+    snprintf(cu->name[slot], NAME_LEN, "%s", name);
+    if (H5Lexists(cu->file, name, H5P_DEFAULT) <= 0 || (cu->dset[slot] = H5Dopen2(cu->file, name, H5P_DEFAULT)) < 0) {
+        cu->dset[slot] = -1;
+        return hx_error_set(HX_ERR_ARG, "%s has no dataset %s%s", cu->path, name, hint);
+    }
+    return HX_OK;
+}
+
+/* Rank and dims of a dataset, and whether it holds floating-point values of 4 bytes. */
+static hx_status set_shape(const hx_cube *cu, int slot, int *rank, hsize_t dims[4], int *single)
+{
+    hx_status st = HX_OK;
+    hid_t space = -1, type = -1;
+    HX_H5(space, H5Dget_space(cu->dset[slot]));
+    *rank = H5Sget_simple_extent_ndims(space);
+    if (*rank < 1 || *rank > 4) HX_FAIL(HX_ERR_ARG, "%s in %s has %d dimensions: need 3 (or 4 with a component axis)",
+                                        cu->name[slot], cu->path, *rank);
+    H5Sget_simple_extent_dims(space, dims, NULL);
+    HX_H5(type, H5Dget_type(cu->dset[slot]));
+    if (H5Tget_class(type) != H5T_FLOAT && H5Tget_class(type) != H5T_INTEGER)
+        HX_FAIL(HX_ERR_ARG, "%s in %s does not hold numbers", cu->name[slot], cu->path);
+    *single = H5Tget_class(type) == H5T_FLOAT && H5Tget_size(type) <= 4;
+fail:
+    if (type >= 0) H5Tclose(type);
+    if (space >= 0) H5Sclose(space);
+    return st;
+}
+
+static void dims_text(char *buf, size_t len, int rank, const hsize_t *d)
+{
+    int k = snprintf(buf, len, "(");
+    for (int i = 0; i < rank && k < (int)len; i++)
+        k += snprintf(buf + k, len - (size_t)k, "%s%llu", i ? ", " : "", (unsigned long long)d[i]);
+    if (k < (int)len) snprintf(buf + k, len - (size_t)k, ")");
+}
+
+/* Spatial dims in file order (3 values) of slot, checking the layout. */
+static hx_status spatial_dims(hx_cube *cu, int slot, int want4, hsize_t sp[3])
+{
+    int rank = 0, single = 0;
+    hsize_t d[4] = {0, 0, 0, 0};
+    char txt[96];
+    hx_status st = set_shape(cu, slot, &rank, d, &single);
+    if (st != HX_OK) return st;
+    cu->single |= single && slot < 3;
+    dims_text(txt, sizeof txt, rank, d);
+    if (want4) {
+        if (rank != 4 || (d[0] != 3 && d[3] != 3))
+            return hx_error_set(HX_ERR_ARG, "%s in %s has shape %s: a single vector dataset must be 4-D with one axis of length 3 (first or last)",
+                                cu->name[slot], cu->path, txt);
+        cu->comp_first = d[0] == 3;
+        memcpy(sp, cu->comp_first ? d + 1 : d, 3 * sizeof *sp);
+        return HX_OK;
+    }
+    if (rank != 3) return hx_error_set(HX_ERR_ARG, "%s in %s has shape %s: need a 3-D dataset", cu->name[slot], cu->path, txt);
+    memcpy(sp, d, 3 * sizeof *sp);
+    return HX_OK;
+}
+
+static hx_status find_sets(hx_cube *cu, const hx_cube_spec *spec)
+{
+    hx_status st = HX_OK;
+    hsize_t sp[4][3];
+    const char *hint = spec->vector ? "" : " (not a helmix cube? name the datasets with --vector PX,PY,PZ)";
+    if (!spec->vector) {
+        for (int c = 0; c < 3; c++) HX_TRY(open_set(cu, c, helmix_names[c], hint));
+    } else if (strchr(spec->vector, ',')) {
+        char buf[3 * NAME_LEN], *save = NULL, *tok;
+        snprintf(buf, sizeof buf, "%s", spec->vector);
+        int c = 0;
+        for (tok = strtok_r(buf, ",", &save); tok && c < 3; tok = strtok_r(NULL, ",", &save)) HX_TRY(open_set(cu, c++, tok, ""));
+        if (c != 3 || tok) HX_FAIL(HX_ERR_ARG, "--vector %s: give three dataset paths PX,PY,PZ or one 4-D dataset", spec->vector);
+    } else {
+        cu->four_d = 1;
+        HX_TRY(open_set(cu, 0, spec->vector, ""));
+        cu->dset[1] = cu->dset[2] = -1;
+        snprintf(cu->name[1], NAME_LEN, "%s", spec->vector);
+        snprintf(cu->name[2], NAME_LEN, "%s", spec->vector);
+    }
+    int nsets = cu->four_d ? 1 : 3;
+    for (int c = 0; c < nsets; c++) HX_TRY(spatial_dims(cu, c, cu->four_d, sp[c]));
+    for (int c = 1; c < nsets; c++)
+        if (memcmp(sp[c], sp[0], sizeof sp[0]))
+            HX_FAIL(HX_ERR_ARG, "%s and %s in %s differ in shape", cu->name[0], cu->name[c], cu->path);
+    if (spec->density) {
+        HX_TRY(open_set(cu, 3, spec->density, ""));
+        HX_TRY(spatial_dims(cu, 3, 0, sp[3]));
+        if (memcmp(sp[3], sp[0], sizeof sp[0]))
+            HX_FAIL(HX_ERR_ARG, "density %s and velocity %s in %s differ in shape", cu->name[3], cu->name[0], cu->path);
+    }
+    for (int a = 0; a < 3; a++) cu->n[a] = (int64_t)(cu->order == HX_ORDER_ZYX ? sp[0][2 - a] : sp[0][a]);
+fail:
+    return st;
+}
+
+/* Box from the Grid Data Format domain edges, if the file has them. */
+static void gdf_box(hx_cube *cu)
+{
+    double l[3], r[3];
+    if (H5Aexists_by_name(cu->file, "/simulation_parameters", "domain_right_edge", H5P_DEFAULT) <= 0) return;
+    hid_t g = H5Gopen2(cu->file, "/simulation_parameters", H5P_DEFAULT);
+    if (g < 0) return;
+    hid_t al = H5Aopen(g, "domain_left_edge", H5P_DEFAULT), ar = H5Aopen(g, "domain_right_edge", H5P_DEFAULT);
+    if (al >= 0 && ar >= 0 && H5Aread(al, H5T_NATIVE_DOUBLE, l) >= 0 && H5Aread(ar, H5T_NATIVE_DOUBLE, r) >= 0)
+        for (int a = 0; a < 3; a++)
+            if (r[a] > l[a]) cu->box[a] = r[a] - l[a];
+    if (al >= 0) H5Aclose(al);
+    if (ar >= 0) H5Aclose(ar);
+    H5Gclose(g);
+}
+
+hx_status hx_cube_open(hx_cube **out, const hx_cube_spec *spec, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    hid_t fapl = -1;
+    hx_cube *cu = NULL;
+    HX_ALLOC(cu, 1);
+    cu->comm = comm;
+    cu->file = -1;
+    for (int i = 0; i < 4; i++) cu->dset[i] = -1;
+    cu->order = spec->order;
+    snprintf(cu->path, sizeof cu->path, "%s", spec->file);
+    for (int a = 0; a < 3; a++) cu->box[a] = 1.0;
+    HX_H5(fapl, H5Pcreate(H5P_FILE_ACCESS));
+    HX_H5OK(H5Pset_fapl_mpio(fapl, comm, MPI_INFO_NULL));
+    cu->file = H5Fopen(spec->file, H5F_ACC_RDONLY, fapl);
+    if (cu->file < 0) HX_FAIL(HX_ERR_ARG, "cannot open %s as HDF5 (missing, unreadable, truncated or not HDF5)", spec->file);
+    HX_TRY(find_sets(cu, spec));
+    if (spec->has_box) memcpy(cu->box, spec->box, sizeof cu->box);
+    else gdf_box(cu);
+    H5Pclose(fapl);
+    *out = cu;
+    return HX_OK;
+fail:
+    if (fapl >= 0) H5Pclose(fapl);
+    hx_cube_close(&cu);
+    return st;
+}
+
+void hx_cube_shape(const hx_cube *cu, int64_t cells[3], double box[3])
+{
+    for (int a = 0; a < 3; a++) {
+        if (cells) cells[a] = cu->n[a];
+        if (box) box[a] = cu->box[a];
+    }
+}
+
+int hx_cube_single(const hx_cube *cu) { return cu->single; }
+
+/* File selection of this rank's planes of component c; returns the element count selected. */
+static hx_status select_file(const hx_cube *cu, int c, hid_t space, const hx_grid *g)
+{
+    hx_status st = HX_OK;
+    hsize_t start[4] = {0, 0, 0, 0}, count[4] = {1, 1, 1, 1};
+    int four = cu->four_d && c < 3, off = four && cu->comp_first ? 1 : 0;
+    hsize_t sp_start[3], sp_count[3];
+    if (cu->order == HX_ORDER_ZYX) {
+        sp_start[0] = (hsize_t)g->z0, sp_count[0] = (hsize_t)g->nz;
+        sp_start[1] = 0, sp_count[1] = (hsize_t)g->n[1];
+        sp_start[2] = 0, sp_count[2] = (hsize_t)g->n[0];
+    } else {
+        sp_start[0] = 0, sp_count[0] = (hsize_t)g->n[0];
+        sp_start[1] = 0, sp_count[1] = (hsize_t)g->n[1];
+        sp_start[2] = (hsize_t)g->z0, sp_count[2] = (hsize_t)g->nz;
+    }
+    for (int i = 0; i < 3; i++) start[i + off] = sp_start[i], count[i + off] = sp_count[i];
+    if (four) start[cu->comp_first ? 0 : 3] = (hsize_t)c;
+    if (g->nz == 0) HX_H5OK(H5Sselect_none(space));
+    else HX_H5OK(H5Sselect_hyperslab(space, H5S_SELECT_SET, start, NULL, count, NULL));
+fail:
+    return st;
+}
+
+hx_status hx_cube_read(hx_cube *cu, int c, const hx_grid *g, double *dst, int64_t stride)
+{
+    hx_status st = HX_OK;
+    hid_t set = cu->four_d && c < 3 ? cu->dset[0] : cu->dset[c];
+    hid_t fspace = -1, mspace = -1, dxpl = -1;
+    double *tmp = NULL;
+    int64_t nx = g->n[0], ny = g->n[1], nz = g->nz;
+    HX_H5(fspace, H5Dget_space(set));
+    HX_TRY(select_file(cu, c, fspace, g));
+    HX_H5(dxpl, H5Pcreate(H5P_DATASET_XFER));
+    HX_H5OK(H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE));
+    void *buf = dst;
+    if (nz == 0) {
+        hsize_t one = 1;
+        HX_H5(mspace, H5Screate_simple(1, &one, NULL));
+        HX_H5OK(H5Sselect_none(mspace));
+    } else if (cu->order == HX_ORDER_ZYX) {
+        hsize_t md[3] = {(hsize_t)nz, (hsize_t)ny, (hsize_t)stride}, z[3] = {0, 0, 0}, cnt[3] = {(hsize_t)nz, (hsize_t)ny, (hsize_t)nx};
+        HX_H5(mspace, H5Screate_simple(3, md, NULL));
+        HX_H5OK(H5Sselect_hyperslab(mspace, H5S_SELECT_SET, z, NULL, cnt, NULL));
+    } else {
+        hsize_t md[3] = {(hsize_t)nx, (hsize_t)ny, (hsize_t)nz};
+        HX_ALLOC(tmp, nx * ny * nz);
+        HX_H5(mspace, H5Screate_simple(3, md, NULL));
+        buf = tmp;
+    }
+    if (H5Dread(set, H5T_NATIVE_DOUBLE, mspace, fspace, dxpl, buf) < 0)
+        HX_FAIL(HX_ERR_ARG, "reading %s from %s failed (truncated or damaged file?)", cu->name[c < 3 ? c : 3], cu->path);
+    if (tmp) /* xyz order: z fastest in the file, x fastest in the slab */
+        for (int64_t x = 0; x < nx; x++)
+            for (int64_t y = 0; y < ny; y++)
+                for (int64_t z = 0; z < nz; z++) dst[(z * ny + y) * stride + x] = tmp[(x * ny + y) * nz + z];
+fail:
+    free(tmp);
+    if (dxpl >= 0) H5Pclose(dxpl);
+    if (mspace >= 0) H5Sclose(mspace);
+    if (fspace >= 0) H5Sclose(fspace);
+    return st;
+}
+
+static int read_double(hid_t obj, const char *name, double *v)
+{
+    if (H5Aexists(obj, name) <= 0) return 0;
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT);
+    int ok = a >= 0 && H5Aread(a, H5T_NATIVE_DOUBLE, v) >= 0;
+    if (a >= 0) H5Aclose(a);
+    return ok;
+}
+
+/* A string attribute, variable or fixed length, into buf. */
+static int read_string(hid_t obj, const char *name, char *buf, size_t len)
+{
+    buf[0] = '\0';
+    if (H5Aexists(obj, name) <= 0) return 0;
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT), ft = a >= 0 ? H5Aget_type(a) : -1, mt = -1;
+    int ok = 0;
+    if (ft >= 0 && H5Tget_class(ft) == H5T_STRING) {
+        mt = H5Tcopy(H5T_C_S1);
+        H5Tset_cset(mt, H5Tget_cset(ft)); /* HDF5 does not convert between ASCII and UTF-8 */
+        if (H5Tis_variable_str(ft) > 0) {
+            char *s = NULL;
+            H5Tset_size(mt, H5T_VARIABLE);
+            if (H5Aread(a, mt, &s) >= 0 && s) {
+                snprintf(buf, len, "%s", s);
+                H5free_memory(s);
+                ok = 1;
+            }
+        } else {
+            size_t n = H5Tget_size(ft);
+            char *s = calloc(n + 1, 1);
+            H5Tset_size(mt, n + 1);
+            if (s && H5Aread(a, mt, s) >= 0) {
+                snprintf(buf, len, "%s", s);
+                ok = 1;
+            }
+            free(s);
+        }
+    }
+    if (mt >= 0) H5Tclose(mt);
+    if (ft >= 0) H5Tclose(ft);
+    if (a >= 0) H5Aclose(a);
+    return ok;
+}
+
+hx_status hx_cube_request(hx_cube *cu, hx_request *q, int *found)
+{
+    char exact[32], shape[32], amps[32];
+    double target = NAN, realized = NAN, expected = NAN;
+    *found = 0;
+    if (H5Lexists(cu->file, "/helmix", H5P_DEFAULT) <= 0) return HX_OK;
+    hid_t g = H5Gopen2(cu->file, "/helmix", H5P_DEFAULT);
+    if (g < 0) return hx_error_set(HX_ERR_ARG, "cannot open /helmix in %s", cu->path);
+    read_string(g, "amplitudes", amps, sizeof amps);
+    hx_request_defaults(q, cu->single, !strcmp(amps, "fixed"));
+    q->has_vrms = read_double(g, "vrms", &q->vrms);
+    read_string(g, "exact", exact, sizeof exact);
+    read_double(g, "compressive_fraction_target", &target);
+    read_double(g, "realized_compressive_fraction", &realized);
+    if (read_double(g, "expected_compressive_fraction", &expected)) q->expected_fraction = expected;
+    if ((!strcmp(exact, "total") || !strcmp(exact, "shell")) && isfinite(target)) {
+        q->has_fraction = 1;
+        q->fraction = target;
+        q->has_shell_fraction = !strcmp(exact, "shell");
+    } else if (isfinite(realized)) {
+        q->has_recorded = 1;
+        q->recorded_fraction = realized;
+    }
+    read_string(g, "spectrum_shape", shape, sizeof shape);
+    if (!strcmp(shape, "power")) q->has_slope = read_double(g, "slope", &q->slope);
+    read_double(g, "kmin", &q->fit_kmin);
+    read_double(g, "kmax", &q->fit_kmax);
+    H5Gclose(g);
+    *found = 1;
+    return HX_OK;
+}
+
+void hx_cube_close(hx_cube **cube)
+{
+    if (!cube || !*cube) return;
+    hx_cube *cu = *cube;
+    for (int i = 0; i < 4; i++)
+        if (cu->dset[i] >= 0 && !(cu->four_d && (i == 1 || i == 2))) H5Dclose(cu->dset[i]);
+    if (cu->file >= 0) H5Fclose(cu->file);
+    free(cu);
+    *cube = NULL;
+}

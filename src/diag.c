@@ -1,0 +1,124 @@
+/* diag.c — the shared summary of a cube: real-space moments and PDFs, shell energies,
+ * compressive share and the compensated slope fit. Used by make (from its k-space sums and
+ * the values it writes) and by inspect (from a cube it reads). */
+#include "helmix/diag.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "check.h"
+
+void hx_diag_clear(hx_diag *d)
+{
+    if (!d) return;
+    free(d->shell_e);
+    free(d->shell_comp);
+    free(d->shell_sol);
+    free(d->shell_modes);
+    free(d->slice_speed);
+    free(d->slice_div);
+    free(d->slice_vort);
+    memset(d, 0, sizeof *d);
+}
+
+hx_status hx_diag_shells(hx_diag *d, int nshell)
+{
+    hx_status st = HX_OK;
+    free(d->shell_e);
+    free(d->shell_comp);
+    free(d->shell_sol);
+    free(d->shell_modes);
+    d->shell_e = d->shell_comp = d->shell_sol = d->shell_modes = NULL;
+    d->nshell = nshell;
+    HX_ALLOC(d->shell_e, nshell);
+    HX_ALLOC(d->shell_comp, nshell);
+    HX_ALLOC(d->shell_sol, nshell);
+    HX_ALLOC(d->shell_modes, nshell);
+    return HX_OK;
+fail:
+    d->nshell = 0;
+    return st;
+}
+
+static inline double value_at(const void *data, hx_precision prec, int64_t i)
+{
+    return prec == HX_PREC_DOUBLE ? ((const double *)data)[i] : (double)((const float *)data)[i];
+}
+
+hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec, int64_t rows, int64_t nx,
+                          int64_t stride, int64_t ntotal, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    double s[4] = {0, 0, 0, 0};
+    for (int64_t r = 0; r < rows; r++)
+        for (int64_t i = 0; i < nx; i++) {
+            double v = value_at(data, prec, r * stride + i);
+            s[0] += v;
+            s[1] += v * v;
+        }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 2, MPI_DOUBLE, MPI_SUM, comm));
+    double n = (double)ntotal, m = s[0] / n;
+    d->mean[c] = m;
+    d->rms[c] = sqrt(s[1] / n);
+    s[1] = s[2] = s[3] = 0;
+    for (int64_t r = 0; r < rows; r++)
+        for (int64_t i = 0; i < nx; i++) {
+            double x = value_at(data, prec, r * stride + i) - m, x2 = x * x;
+            s[1] += x2;
+            s[2] += x2 * x;
+            s[3] += x2 * x2;
+        }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s + 1, 3, MPI_DOUBLE, MPI_SUM, comm));
+    double var = s[1] / n, sd = sqrt(var);
+    d->skew[c] = var > 0 ? s[2] / n / (var * sd) : NAN;
+    d->kurt[c] = var > 0 ? s[3] / n / (var * var) - 3.0 : NAN;
+    double *h = d->pdf[c], width = 2.0 * HX_DIAG_PDF_RANGE / HX_DIAG_BINS;
+    memset(h, 0, sizeof d->pdf[c]);
+    if (sd > 0)
+        for (int64_t r = 0; r < rows; r++)
+            for (int64_t i = 0; i < nx; i++) {
+                double z = (value_at(data, prec, r * stride + i) - m) / sd;
+                double b = floor((z + HX_DIAG_PDF_RANGE) / width);
+                if (b >= 0 && b < HX_DIAG_BINS) h[(int)b] += 1.0;
+            }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, h, HX_DIAG_BINS, MPI_DOUBLE, MPI_SUM, comm));
+    for (int b = 0; b < HX_DIAG_BINS; b++) h[b] /= n * width;
+fail:
+    return st;
+}
+
+void hx_diag_fit_slope(const hx_diag *d, double kmin, double kmax, double *slope, double *err)
+{
+    double sx = 0, sy = 0, sxx = 0, sxy = 0, syy = 0;
+    int n = 0;
+    *slope = *err = NAN;
+    for (int s = 1; s < d->nshell; s++) {
+        if (s < kmin || s > kmax || !(d->shell_e[s] > 0) || !(d->shell_modes[s] > 0)) continue;
+        double x = log((double)s), y = log(d->shell_e[s] * 4.0 * M_PI * s * s / d->shell_modes[s]);
+        sx += x, sy += y, sxx += x * x, sxy += x * y, syy += y * y;
+        n++;
+    }
+    if (n < 3) return;
+    double vx = sxx - sx * sx / n, cxy = sxy - sx * sy / n, vy = syy - sy * sy / n;
+    if (!(vx > 0)) return;
+    double b = cxy / vx, rss = vy - b * cxy;
+    *slope = -b;
+    *err = sqrt((rss > 0 ? rss : 0) / (n - 2) / vx);
+}
+
+void hx_diag_finish(hx_diag *d)
+{
+    double et = 0, ec = 0;
+    for (int s = 0; s < d->nshell; s++) {
+        d->shell_sol[s] = d->shell_e[s] - d->shell_comp[s];
+        et += d->shell_e[s];
+        ec += d->shell_comp[s];
+    }
+    d->e_total = et;
+    d->e_comp = ec;
+    d->e_sol = et - ec;
+    d->fraction = et > 0 ? ec / et : NAN;
+    d->rms3 = sqrt(d->rms[0] * d->rms[0] + d->rms[1] * d->rms[1] + d->rms[2] * d->rms[2]);
+    hx_diag_fit_slope(d, d->fit_kmin, d->fit_kmax, &d->slope, &d->slope_err);
+}
