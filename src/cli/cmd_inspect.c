@@ -9,7 +9,6 @@
 #include "helmix/inspect.h"
 #include "helmix/plot.h"
 #include "helmix/report.h"
-#include "helmix/version.h"
 
 static void inspect_usage(FILE *out)
 {
@@ -142,10 +141,8 @@ static hx_status outputs(const inspect_args *a, const hx_diag *d, const hx_reque
     if (a->json && st == HX_OK) st = hx_report_json(a->json, d, a->check ? v : NULL, a->o.cube.file);
     if (a->csv && st == HX_OK) st = hx_report_csv(a->csv, d);
     if (a->plot && st == HX_OK) {
-        char title[512];
-        snprintf(title, sizeof title, "%s   %lld x %lld x %lld cells   helmix %s", a->o.cube.file, (long long)d->cells[0],
-                 (long long)d->cells[1], (long long)d->cells[2], HX_VERSION);
-        hx_plot_request pr = {q->has_slope ? q->slope : NAN, q->has_fraction ? q->fraction : NAN, title};
+        /* the page shows grid and version under the title already */
+        hx_plot_request pr = {q->has_slope ? q->slope : NAN, q->has_fraction ? q->fraction : NAN, a->o.cube.file};
         st = hx_plot_report(d, &pr, a->plot);
     }
     return st;

@@ -129,30 +129,31 @@ static long count_near(cairo_surface_t *s, box b, uint32_t colour, int tol)
     return n;
 }
 
-/* Distinct colours (capped) and the share of non-white pixels of the whole image. */
+/* Distinct colours (one bit per 24-bit colour) and the share of non-white pixels. */
 static void census(cairo_surface_t *s, int *distinct, double *nonwhite)
 {
-    enum { CAP = 4096 };
-    static uint32_t seen[CAP];
-    int n = 0;
+    unsigned char *seen = calloc(1u << 21, 1);
     long dark = 0, all = 0;
-    for (int y = 0; y < cairo_image_surface_get_height(s); y++)
+    *distinct = 0;
+    for (int y = 0; seen && y < cairo_image_surface_get_height(s); y++)
         for (int x = 0; x < cairo_image_surface_get_width(s); x++, all++) {
             uint32_t p = pixel(s, x, y);
             dark += p != 0xffffffu;
-            int k = 0;
-            while (k < n && seen[k] != p) k++;
-            if (k == n && n < CAP) seen[n++] = p;
+            *distinct += !(seen[p >> 3] >> (p & 7) & 1);
+            seen[p >> 3] |= (unsigned char)(1u << (p & 7));
         }
-    *distinct = n;
-    *nonwhite = (double)dark / (double)all;
+    *nonwhite = all ? (double)dark / (double)all : 0;
+    free(seen);
 }
 
+/* The PNG at path, or NULL (a failed check) when cairo cannot read it. */
 static cairo_surface_t *read_png(const char *path)
 {
     cairo_surface_t *s = cairo_image_surface_create_from_png(path);
-    CHECK(cairo_surface_status(s) == CAIRO_STATUS_SUCCESS);
-    return s;
+    int ok = cairo_surface_status(s) == CAIRO_STATUS_SUCCESS;
+    CHECK(ok);
+    if (!ok) cairo_surface_destroy(s);
+    return ok ? s : NULL;
 }
 
 /* ---- tests ----------------------------------------------------------------------------- */
@@ -176,25 +177,30 @@ static void test_png(void)
     hx_plot_request req = {2.0, 1.0 / 3.0, "demo64.h5   64³ cells, solenoidal + compressive mix"};
     CHECK(hx_plot_report(&d, &req, png_path) == HX_OK);
     cairo_surface_t *s = read_png(png_path);
-    CHECK(cairo_image_surface_get_width(s) == 1800);
-    CHECK(cairo_image_surface_get_height(s) == 1300);
-    int distinct = 0;
-    double nonwhite = 0;
-    census(s, &distinct, &nonwhite);
-    CHECK(distinct > 600);                   /* three 256-step colour maps plus line art */
-    CHECK(nonwhite > 0.05 && nonwhite < 0.6); /* neither blank nor flooded */
-    CHECK(coloured_fraction(s, SLICE_BAND) > 0.15);
-    CHECK(count_near(s, SPECTRUM, GUIDE_RGB, 10) > 100);
-    cairo_surface_destroy(s);
+    if (s) {
+        CHECK(cairo_image_surface_get_width(s) == 1800);
+        CHECK(cairo_image_surface_get_height(s) == 1300);
+        int distinct = 0;
+        double nonwhite = 0;
+        census(s, &distinct, &nonwhite);
+        CHECK(distinct > 600);                    /* three 256-step colour maps plus line art */
+        CHECK(nonwhite > 0.05 && nonwhite < 0.6); /* neither blank nor flooded */
+        if (cairo_image_surface_get_width(s) == 1800 && cairo_image_surface_get_height(s) == 1300) {
+            CHECK(coloured_fraction(s, SLICE_BAND) > 0.15);
+            CHECK(count_near(s, SPECTRUM, GUIDE_RGB, 10) > 100);
+        }
+        cairo_surface_destroy(s);
+    }
     discard(png_path);
 
     char path[160];
     snprintf(path, sizeof path, "%s.noguide.png", png_path);
     req.slope = NAN; /* no guide requested: none of its colour in the spectrum panel */
     CHECK(hx_plot_report(&d, &req, path) == HX_OK);
-    s = read_png(path);
-    CHECK(count_near(s, SPECTRUM, GUIDE_RGB, 10) == 0);
-    cairo_surface_destroy(s);
+    if ((s = read_png(path))) {
+        CHECK(count_near(s, SPECTRUM, GUIDE_RGB, 10) == 0);
+        cairo_surface_destroy(s);
+    }
     discard(path);
     free_diag(&d);
 }
@@ -223,10 +229,11 @@ static void test_pdf(void)
         CHECK(system(cmd) == 0);
         snprintf(out, sizeof out, "%s.png", ppm_base);
         cairo_surface_t *s = read_png(out);
-        /* 842 pt at 50 dpi is 585 px (pdftoppm rounds up) */
-        CHECK(abs(cairo_image_surface_get_width(s) - 585) <= 1);
-        CHECK(coloured_fraction(s, (box){20, 330, 565, 415}) > 0.1);
-        cairo_surface_destroy(s);
+        /* 842 pt at 50 dpi is 585 px (pdftoppm rounds up); the slices lie in y 330..415 */
+        int fits = s && abs(cairo_image_surface_get_width(s) - 585) <= 1 && cairo_image_surface_get_height(s) > 415;
+        CHECK(fits);
+        if (fits) CHECK(coloured_fraction(s, (box){20, 330, 565, 415}) > 0.1);
+        if (s) cairo_surface_destroy(s);
         discard(out);
     }
     discard(pdf_path);
@@ -245,8 +252,10 @@ static void test_missing_parts(void)
     snprintf(bare, sizeof bare, "%s.nospectra.png", png_path);
     CHECK(hx_plot_report(&d, &req, png) == HX_OK);
     cairo_surface_t *s = read_png(png);
-    CHECK(coloured_fraction(s, SLICE_BAND) < 0.001);
-    cairo_surface_destroy(s);
+    if (s) {
+        CHECK(coloured_fraction(s, SLICE_BAND) < 0.001);
+        cairo_surface_destroy(s);
+    }
     CHECK(hx_plot_report(&d, NULL, pdf) == HX_OK);
     CHECK(starts_with_pdf(pdf));
     free(d.shell_e);
@@ -278,6 +287,10 @@ static void test_slice_orientation(void)
     snprintf(png, sizeof png, "%s.ramps.png", png_path);
     CHECK(hx_plot_report(&d, NULL, png) == HX_OK);
     cairo_surface_t *s = read_png(png);
+    if (!s) {
+        free_diag(&d);
+        return;
+    }
     const int mid = 948 + 155;
     CHECK(luma(pixel(s, 110, mid)) + 20 < luma(pixel(s, 255, mid)));
     CHECK(luma(pixel(s, 255, mid)) + 20 < luma(pixel(s, 400, mid)));
@@ -316,8 +329,10 @@ static void test_large_slice(void)
     snprintf(path, sizeof path, "%s.big.PNG", png_path); /* extension case does not matter */
     CHECK(hx_plot_report(&d, NULL, path) == HX_OK);
     cairo_surface_t *s = read_png(path);
-    CHECK(coloured_fraction(s, SLICE_BAND) > 0.15);
-    cairo_surface_destroy(s);
+    if (s) {
+        CHECK(coloured_fraction(s, SLICE_BAND) > 0.15);
+        cairo_surface_destroy(s);
+    }
     discard(path);
     free_diag(&d);
 }
