@@ -88,6 +88,38 @@ fail:
     return st;
 }
 
+void hx_moments_init(hx_moments *m, double center, double scale)
+{
+    memset(m, 0, sizeof *m);
+    m->center = center;
+    m->scale = scale > 0 ? scale : 1.0;
+}
+
+hx_status hx_moments_reduce(hx_moments *m, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    double s[4] = {m->s1, m->s2, m->s3, m->s4};
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 4, MPI_DOUBLE, MPI_SUM, comm));
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, m->hist, HX_DIAG_BINS, MPI_DOUBLE, MPI_SUM, comm));
+    m->s1 = s[0], m->s2 = s[1], m->s3 = s[2], m->s4 = s[3];
+fail:
+    return st;
+}
+
+void hx_diag_set_moments(hx_diag *d, int c, const hx_moments *m)
+{
+    double n = m->n, e1 = m->s1 / n, e2 = m->s2 / n, e3 = m->s3 / n, e4 = m->s4 / n;
+    double var = e2 - e1 * e1;                               /* central moments from raw ones */
+    double mu3 = e3 - 3 * e1 * e2 + 2 * e1 * e1 * e1;
+    double mu4 = e4 - 4 * e1 * e3 + 6 * e1 * e1 * e2 - 3 * e1 * e1 * e1 * e1;
+    d->mean[c] = m->center + e1;
+    d->rms[c] = sqrt(fmax(var + d->mean[c] * d->mean[c], 0.0));
+    d->skew[c] = var > 0 ? mu3 / (var * sqrt(var)) : NAN;
+    d->kurt[c] = var > 0 ? mu4 / (var * var) - 3.0 : NAN;
+    double width = 2.0 * HX_DIAG_PDF_RANGE / HX_DIAG_BINS;
+    for (int b = 0; b < HX_DIAG_BINS; b++) d->pdf[c][b] = m->hist[b] / (n * width);
+}
+
 void hx_diag_fit_slope(const hx_diag *d, double kmin, double kmax, double *slope, double *err)
 {
     double sx = 0, sy = 0, sxx = 0, sxy = 0, syy = 0;

@@ -65,10 +65,8 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags,
         }
     }
     HX_TRY(hx_error_agree(comm, st));
-    double t0 = MPI_Wtime();
     f->plan = fftw_mpi_plan_dft_c2r_3d(g->n[2], g->n[1], g->n[0], f->data, (double *)f->data, comm,
                                        plan_flags | FFTW_MPI_TRANSPOSED_IN);
-    f->t_fft += MPI_Wtime() - t0;
     st = f->plan ? HX_OK : hx_error_set(HX_ERR_FFTW, "FFTW could not plan a %tdx%tdx%td c2r transform on rank %d",
                                         g->n[0], g->n[1], g->n[2], g->rank);
     HX_TRY(hx_error_agree(comm, st));
@@ -151,13 +149,13 @@ fail:
 }
 
 /* The three complex draws of a mode, and k_hat . w. */
-static void draw(const hx_field *f, const mode_t_ *m, double complex w[3], double complex *kw)
+static inline void draw(const hx_field *f, const mode_t_ *m, double complex w[3], double complex *kw)
 {
+    double v[6];
+    hx_rng_vector(f->r->seed, m->n[0], m->n[1], m->n[2], f->r->amplitudes, f->r->flip, v);
     *kw = 0;
-    for (uint32_t c = 0; c < 3; c++) {
-        double v[2];
-        hx_rng_mode(f->r->seed, m->n[0], m->n[1], m->n[2], c, f->r->amplitudes, f->r->flip, v);
-        w[c] = v[0] + I * v[1];
+    for (int c = 0; c < 3; c++) {
+        w[c] = v[2 * c] + I * v[2 * c + 1];
         *kw += m->khat[c] * w[c];
     }
 }
@@ -279,9 +277,10 @@ const hx_field_summary *hx_field_summary_get(const hx_field *f) { return f->read
 
 /* Write component c of every local mode into the slab (transposed layout y, z, x); with
  * sums, also add every mode's energies to the local shell sums. */
-static void fill(hx_field *f, int c, int sums)
+static double fill(hx_field *f, int c, int sums)
 {
     const hx_grid *g = &f->g;
+    double power = 0; /* sum over both halves of |u_c|^2: the variance of component c */
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
         for (ptrdiff_t z = 0; z < g->n[2]; z++) {
             double complex *row = (double complex *)f->data + ((y - g->y0) * g->n[2] + z) * g->nxc;
@@ -298,26 +297,27 @@ static void fill(hx_field *f, int c, int sums)
                 double a = f->a[m.shell], b = f->b[m.shell];
                 double complex u = m.amp * (a * w[c] + (b - a) * m.khat[c] * kw);
                 row[x] = u * pyz * (f->ph[0][2 * x] + I * f->ph[0][2 * x + 1]);
+                power += m.weight * creal(u * conj(u));
             }
         }
+    return power;
 }
 
 /* Remove the c2r row padding and convert to the output type, in place, front to back
- * (every destination byte lies at or before the source it replaces). */
-static void compact(hx_field *f, hx_precision prec, double scale, double *s2, double *s1)
+ * (every destination byte lies at or before the source it replaces), adding every value
+ * written to the moment sums. */
+static void compact(hx_field *f, hx_precision prec, double scale, hx_moments *mom)
 {
     const hx_grid *g = &f->g;
     const double *src = (const double *)f->data;
     ptrdiff_t rows = g->nz * g->n[1], nx = g->n[0], stride = 2 * g->nxc;
-    double q = 0, l = 0;
     if (prec == HX_PREC_DOUBLE) {
         double *dst = (double *)f->data;
         for (ptrdiff_t r = 0; r < rows; r++) {
             memmove(dst + r * nx, src + r * stride, (size_t)nx * sizeof *dst);
             for (ptrdiff_t i = 0; i < nx; i++) {
                 dst[r * nx + i] *= scale;
-                q += dst[r * nx + i] * dst[r * nx + i];
-                l += dst[r * nx + i];
+                hx_moments_add(mom, dst[r * nx + i]);
             }
         }
     } else {
@@ -326,37 +326,36 @@ static void compact(hx_field *f, hx_precision prec, double scale, double *s2, do
             for (ptrdiff_t i = 0; i < nx; i++) {
                 float v = (float)(scale * src[r * stride + i]);
                 dst[r * nx + i] = v;
-                q += (double)v * v;
-                l += v;
+                hx_moments_add(mom, v);
             }
     }
-    *s2 = q;
-    *s1 = l;
 }
 
-hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void **slab, double *sum2, double *sum1)
+hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void **slab, hx_moments *mom)
 {
     hx_status st = HX_OK;
+    hx_moments local;
     if (c < 0 || c > 2 || !f->r) HX_FAIL(HX_ERR_ARG, "component %d requested before hx_field_mix or out of 0..2", c);
     if (f->deferred && c != 0 && !f->ready) HX_FAIL(HX_ERR_ARG, "with exact = none component 0 must come first");
     int sums = f->deferred && !f->ready;
     double t0 = MPI_Wtime();
-    fill(f, c, sums);
-    double t1 = MPI_Wtime(), scale = 1.0;
+    double power = fill(f, c, sums), scale = 1.0;
+    double t1 = MPI_Wtime();
     if (sums) {
         HX_TRY(hx_error_agree(f->comm, finish_mix(f)));
         scale = f->alpha > 0 ? f->a[0] / f->alpha : f->b[0] / f->beta; /* the global factor of hx_mix_solve */
     }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &power, 1, MPI_DOUBLE, MPI_SUM, f->comm));
     double t2 = MPI_Wtime();
     fftw_execute(f->plan);
     double t3 = MPI_Wtime();
-    double loc[2];
-    compact(f, prec, scale, &loc[0], &loc[1]);
+    hx_moments_init(&local, 0.0, scale * sqrt(power)); /* mean 0: the k = 0 mode is empty */
+    local.n = (double)hx_grid_cells(&f->g);
+    compact(f, prec, scale, &local);
     f->t_draw += t1 - t0;
     f->t_fft += t3 - t2;
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, loc, 2, MPI_DOUBLE, MPI_SUM, f->comm));
-    if (sum2) *sum2 = loc[0];
-    if (sum1) *sum1 = loc[1];
+    HX_TRY(hx_moments_reduce(&local, f->comm));
+    if (mom) *mom = local;
     *slab = f->data;
     return HX_OK;
 fail:

@@ -17,6 +17,7 @@
 #ifndef HELMIX_DIAG_H
 #define HELMIX_DIAG_H
 
+#include <math.h>
 #include <mpi.h>
 #include <stdint.h>
 
@@ -62,6 +63,33 @@ hx_status hx_diag_shells(hx_diag *d, int nshell);
  * cancellation. */
 hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec, int64_t rows, int64_t nx,
                           int64_t stride, int64_t ntotal, MPI_Comm comm);
+
+/* One-pass moment sums for values whose centre and spread are known in advance (the
+ * generator knows each component's variance from its k-space sums and its mean is zero):
+ * power sums about `center` and a histogram of (v - center)/scale. */
+typedef struct hx_moments {
+    double center, scale, n;
+    double s1, s2, s3, s4;       /* sums of d, d^2, d^3, d^4 with d = v - center */
+    double hist[HX_DIAG_BINS];
+} hx_moments;
+
+void hx_moments_init(hx_moments *m, double center, double scale);
+
+static inline void hx_moments_add(hx_moments *m, double v)
+{
+    double d = v - m->center, d2 = d * d;
+    m->s1 += d, m->s2 += d2, m->s3 += d2 * d, m->s4 += d2 * d2;
+    double b = (d / m->scale + HX_DIAG_PDF_RANGE) * (HX_DIAG_BINS / (2.0 * HX_DIAG_PDF_RANGE));
+    if (b >= 0 && b < HX_DIAG_BINS) m->hist[(int)b] += 1.0; /* b >= 0: truncation is floor */
+}
+
+/* Collective: sum m over comm (m->n must already hold the global count). */
+hx_status hx_moments_reduce(hx_moments *m, MPI_Comm comm);
+
+/* mean, rms, skewness, excess kurtosis and PDF of component c from reduced sums. The PDF
+ * bins are those of (v - center)/scale, which equal the standardized bins when center and
+ * scale are the mean and standard deviation (to round-off). */
+void hx_diag_set_moments(hx_diag *d, int c, const hx_moments *m);
 
 /* Energies, share and slope from the filled shell arrays (not collective): e_total,
  * e_comp, e_sol, fraction, and the slope fit over [fit_kmin, fit_kmax]. */

@@ -12,6 +12,7 @@
 
 #include <mpi.h>
 
+#include "helmix/diag.h"
 #include "helmix/error.h"
 #include "helmix/grid.h"
 #include "helmix/recipe.h"
@@ -47,11 +48,12 @@ const hx_field_summary *hx_field_summary_get(const hx_field *f);
 
 /* Collective: synthesize component c (0 = x, 1 = y, 2 = z) in real space. On return *slab
  * points to this rank's nz * Ny * Nx values (x fastest) as float (single) or double, valid
- * until the next call; sum2 and sum1 (may be NULL) receive the global sums of v_c^2 and v_c
- * over the written values, for an rms check independent of the k-space sums. */
-hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void **slab, double *sum2, double *sum1);
+ * until the next call, and mom (may be NULL) holds the global moment sums of the values
+ * written (centre 0, scale the component's rms from its k-space power), gathered while
+ * compacting: an rms and PDF check of the data independent of the k-space sums. */
+hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void **slab, hx_moments *mom);
 
-/* Seconds spent in draws and in transforms so far (this rank). */
+/* Seconds spent so far (this rank) filling k space (draws) and in the FFTW transforms. */
 void hx_field_timings(const hx_field *f, double *draw, double *transform);
 
 void hx_field_destroy(hx_field **f);

@@ -17,7 +17,12 @@ typedef struct hx_make_result {
     double vrms_k;         /* 3D rms from the k-space sums                               */
     double vrms_x;         /* 3D rms recomputed from the values written (real space)      */
     double mean[3];        /* mean of each written component                              */
-    double t_plan, t_draw, t_transform[3], t_write[3], t_total;
+    double t_plan;         /* FFTW planning                                               */
+    double t_draw;         /* filling k space: draws, projection, mix pass                */
+    double t_fft;          /* the three c2r transforms                                    */
+    double t_synth[3];     /* per component: fill + transform + compaction (+ moments)    */
+    double t_write[3];     /* per component: collective write                             */
+    double t_total;        /* from the start to the provenance write                      */
     long long peak_rss;    /* bytes, largest over ranks                                   */
 } hx_make_result;
 

@@ -1,10 +1,11 @@
-/* helmix/rng.h — per-mode random draws keyed on (seed, global integer wavevector, component).
+/* helmix/rng.h — per-mode random draws keyed on (seed, global integer wavevector).
  *
- * A counter-based generator (Philox4x32-10; Salmon et al. 2011, Proc. SC'11, "Parallel random
- * numbers: as easy as 1, 2, 3") maps the key (seed) and counter (n_x, n_y, n_z, component) to
- * 128 random bits, so a mode's draw never depends on array position, rank or grid size: the
- * foundation of rank-count invariance and resolution nesting. Hermitian symmetry is exact:
- * only the canonical half of k space is drawn, the other half is its complex conjugate.
+ * A counter-based generator (Philox4x64-10; Salmon et al. 2011, Proc. SC'11, "Parallel random
+ * numbers: as easy as 1, 2, 3") maps the key (seed) and counter (n_x, n_y, n_z, round) to
+ * 256 random bits, enough for the three components of a mode in one call most of the time,
+ * so a mode's draw never depends on array position, rank or grid size: the foundation of
+ * rank-count invariance and resolution nesting. Hermitian symmetry is exact: only the
+ * canonical half of k space is drawn, the other half is its complex conjugate.
  * All functions are pure and not collective. */
 #ifndef HELMIX_RNG_H
 #define HELMIX_RNG_H
@@ -13,8 +14,8 @@
 
 #include "helmix/recipe.h"
 
-/* The raw 128 bits for (seed, n, comp): out[0..3]. */
-void hx_rng_bits(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t comp, uint32_t out[4]);
+/* The raw 256 bits for (seed, n, round): out[0..3]. */
+void hx_rng_bits(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint64_t round, uint64_t out[4]);
 
 /* 1 if n is in the canonical half (first nonzero of nx, ny, nz is positive), else 0. */
 static inline int hx_rng_canonical(int64_t nx, int64_t ny, int64_t nz)
@@ -22,10 +23,9 @@ static inline int hx_rng_canonical(int64_t nx, int64_t ny, int64_t nz)
     return nx > 0 || (nx == 0 && (ny > 0 || (ny == 0 && nz > 0)));
 }
 
-/* The complex draw w = (re, im) of one component of mode n, honouring w(-n) = conj(w(n)).
- * gaussian: E|w|^2 = 1 (polar method; |w|^2 is exponential with mean 1);
- * fixed: |w| = 1 and a uniform random phase. flip negates. n = 0 gives 0. */
-void hx_rng_mode(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint32_t comp,
-                 hx_amplitudes amp, int flip, double w[2]);
+/* The three complex draws w[c] = (w[2c], w[2c+1]) of mode n, honouring w(-n) = conj(w(n)).
+ * gaussian: each E|w_c|^2 = 1 (polar method; |w_c|^2 is exponential with mean 1);
+ * fixed: |w_c| = 1 and a uniform random phase. flip negates. n = 0 gives 0. */
+void hx_rng_vector(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, hx_amplitudes amp, int flip, double w[6]);
 
 #endif

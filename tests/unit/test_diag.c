@@ -36,6 +36,27 @@ static void test_moments(void)
     CHECK(isnan(d.skew[2])); /* zero variance: no shape */
 }
 
+/* One-pass sums about a known centre give the same moments as the three-pass route. */
+static void test_one_pass(void)
+{
+    hx_diag d = {0};
+    hx_moments m;
+    const double v[4] = {0, 0, 0, 3};
+    hx_moments_init(&m, 0.0, 1.5);
+    m.n = 4;
+    for (int i = 0; i < 4; i++) hx_moments_add(&m, v[i]);
+    CHECK(hx_moments_reduce(&m, MPI_COMM_WORLD) == HX_OK);
+    hx_diag_set_moments(&d, 0, &m);
+    CHECK_CLOSE(d.mean[0], 0.75, 1e-15);
+    CHECK_CLOSE(d.rms[0], 1.5, 1e-15);
+    CHECK_CLOSE(d.skew[0], 2.0 / sqrt(3.0), 1e-14);
+    /* excess kurtosis by hand: (3 (0.75)^4 + 2.25^4) / 4 / 1.6875^2 - 3 = -2/3 */
+    CHECK_CLOSE(d.kurt[0], -2.0 / 3.0, 1e-14);
+    /* bins of v / 1.5: 0 -> bin 50 (three values), 2 -> bin 70 (one value); density count / (n 0.1) */
+    CHECK_CLOSE(d.pdf[0][50], 3.0 / 0.4, 1e-12);
+    CHECK_CLOSE(d.pdf[0][70], 1.0 / 0.4, 1e-12);
+}
+
 /* A spectrum whose compensated shell values follow k^-5/3 exactly is fitted exactly. */
 static void test_slope_and_energies(void)
 {
@@ -65,6 +86,7 @@ int main(int argc, char **argv)
 {
     MPI_Init(&argc, &argv);
     test_moments();
+    test_one_pass();
     test_slope_and_energies();
     int rc = hx_test_finish();
     MPI_Finalize();
