@@ -315,6 +315,16 @@ hx_status hx_cube_request(hx_cube *cu, hx_request *q, int *found)
     }
     read_string(g, "spectrum_shape", shape, sizeof shape);
     if (!strcmp(shape, "power")) q->has_slope = read_double(g, "slope", &q->slope);
+    double fit = NAN, sigma = NAN;
+    read_double(g, "slope_fit_expected", &fit);
+    read_double(g, "slope_fit_sigma", &sigma);
+    if (q->has_slope && isfinite(fit) && isfinite(sigma)) {
+        /* judge the fit against what it should give on this grid and band, within 5 sigma of
+         * its scatter for this draw (make computes both from its own mode set) */
+        q->slope_recipe = q->slope;
+        q->slope = fit;
+        q->tol_slope = fmax(5.0 * sigma, 0.01);
+    }
     read_double(g, "kmin", &q->fit_kmin);
     read_double(g, "kmax", &q->fit_kmax);
     H5Gclose(g);

@@ -50,7 +50,7 @@ hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec
                           int64_t stride, int64_t ntotal, MPI_Comm comm)
 {
     hx_status st = HX_OK;
-    double s[4] = {0, 0, 0, 0};
+    double s[2] = {0, 0};
     for (int64_t r = 0; r < rows; r++)
         for (int64_t i = 0; i < nx; i++) {
             double v = value_at(data, prec, r * stride + i);
@@ -59,31 +59,18 @@ hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec
         }
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 2, MPI_DOUBLE, MPI_SUM, comm));
     double n = (double)ntotal, m = s[0] / n;
-    d->mean[c] = m;
-    d->rms[c] = sqrt(s[1] / n);
-    s[1] = s[2] = s[3] = 0;
+    /* the spread for the PDF bins from the raw sums; the moments themselves from the second,
+     * centred pass, so they keep their digits when the mean is large */
+    double sd0 = sqrt(fmax(s[1] / n - m * m, 0.0));
+    hx_moments acc;
+    hx_moments_init(&acc, m, sd0);
+    acc.n = n;
     for (int64_t r = 0; r < rows; r++)
-        for (int64_t i = 0; i < nx; i++) {
-            double x = value_at(data, prec, r * stride + i) - m, x2 = x * x;
-            s[1] += x2;
-            s[2] += x2 * x;
-            s[3] += x2 * x2;
-        }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s + 1, 3, MPI_DOUBLE, MPI_SUM, comm));
-    double var = s[1] / n, sd = sqrt(var);
-    d->skew[c] = var > 0 ? s[2] / n / (var * sd) : NAN;
-    d->kurt[c] = var > 0 ? s[3] / n / (var * var) - 3.0 : NAN;
-    double *h = d->pdf[c], width = 2.0 * HX_DIAG_PDF_RANGE / HX_DIAG_BINS;
-    memset(h, 0, sizeof d->pdf[c]);
-    if (sd > 0)
-        for (int64_t r = 0; r < rows; r++)
-            for (int64_t i = 0; i < nx; i++) {
-                double z = (value_at(data, prec, r * stride + i) - m) / sd;
-                double b = floor((z + HX_DIAG_PDF_RANGE) / width);
-                if (b >= 0 && b < HX_DIAG_BINS) h[(int)b] += 1.0;
-            }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, h, HX_DIAG_BINS, MPI_DOUBLE, MPI_SUM, comm));
-    for (int b = 0; b < HX_DIAG_BINS; b++) h[b] /= n * width;
+        for (int64_t i = 0; i < nx; i++) hx_moments_add(&acc, value_at(data, prec, r * stride + i));
+    HX_TRY(hx_moments_reduce(&acc, comm));
+    hx_diag_set_moments(d, c, &acc);
+    d->rms[c] = sqrt(s[1] / n);
+    if (!(sd0 > 0)) memset(d->pdf[c], 0, sizeof d->pdf[c]);
 fail:
     return st;
 }
@@ -120,14 +107,25 @@ void hx_diag_set_moments(hx_diag *d, int c, const hx_moments *m)
     for (int b = 0; b < HX_DIAG_BINS; b++) d->pdf[c][b] = m->hist[b] / (n * width);
 }
 
-void hx_diag_fit_slope(const hx_diag *d, double kmin, double kmax, double *slope, double *err)
+/* Shells that take part in the fit: inside [kmin, kmax], with modes, and with more energy
+ * than the round-off of double precision leaves in empty shells. */
+static int fit_shell(const double *e, const double *modes, double floor_e, int s, double kmin, double kmax)
 {
-    double sx = 0, sy = 0, sxx = 0, sxy = 0, syy = 0;
+    return s >= kmin && s <= kmax && e[s] > floor_e && modes[s] > 0;
+}
+
+void hx_diag_fit_shells(const double *e, const double *modes, const double *relvar, int nshell, double kmin, double kmax,
+                        double *slope, double *err, double *sigma)
+{
+    double sx = 0, sy = 0, sxx = 0, sxy = 0, syy = 0, total = 0;
     int n = 0;
     *slope = *err = NAN;
-    for (int s = 1; s < d->nshell; s++) {
-        if (s < kmin || s > kmax || !(d->shell_e[s] > 0) || !(d->shell_modes[s] > 0)) continue;
-        double x = log((double)s), y = log(d->shell_e[s] * 4.0 * M_PI * s * s / d->shell_modes[s]);
+    if (sigma) *sigma = NAN;
+    for (int s = 0; s < nshell; s++) total += e[s] > 0 ? e[s] : 0;
+    const double floor_e = 1e-28 * total;
+    for (int s = 1; s < nshell; s++) {
+        if (!fit_shell(e, modes, floor_e, s, kmin, kmax)) continue;
+        double x = log((double)s), y = log(e[s] * 4.0 * M_PI * s * s / modes[s]);
         sx += x, sy += y, sxx += x * x, sxy += x * y, syy += y * y;
         n++;
     }
@@ -137,6 +135,17 @@ void hx_diag_fit_slope(const hx_diag *d, double kmin, double kmax, double *slope
     double b = cxy / vx, rss = vy - b * cxy;
     *slope = -b;
     *err = sqrt((rss > 0 ? rss : 0) / (n - 2) / vx);
+    if (!sigma || !relvar) return;
+    /* var(slope) = sum (x_s - mean x)^2 var(y_s) / Sxx^2, var(log E_s) ~ relative variance of E_s */
+    double xm = sx / n, v = 0;
+    for (int s = 1; s < nshell; s++)
+        if (fit_shell(e, modes, floor_e, s, kmin, kmax)) v += (log((double)s) - xm) * (log((double)s) - xm) * relvar[s];
+    *sigma = sqrt(v) / vx;
+}
+
+void hx_diag_fit_slope(const hx_diag *d, double kmin, double kmax, double *slope, double *err)
+{
+    hx_diag_fit_shells(d->shell_e, d->shell_modes, NULL, d->nshell, kmin, kmax, slope, err, NULL);
 }
 
 void hx_diag_finish(hx_diag *d)

@@ -77,7 +77,7 @@ fail:
     return st;
 }
 
-enum { NSUM = 5 }; /* per-shell sums: sol, comp, modes, k^2 sol, k^2 comp */
+enum { NSUM = 7 }; /* per-shell sums: sol, comp, modes, k^2 sol, k^2 comp, w A^2, (w A^2)^2 */
 
 /* One local mode: everything the passes need. */
 typedef struct {
@@ -180,6 +180,8 @@ static inline void accumulate(double *loc, int ns, const mode_t_ *m, const doubl
     loc[ns + m->shell] += p * wpar2;
     loc[3 * ns + m->shell] += p * m->k * m->k * (w2 - wpar2); /* for the rms vorticity */
     loc[4 * ns + m->shell] += p * m->k * m->k * wpar2;        /* for the rms divergence */
+    loc[5 * ns + m->shell] += p;                              /* expected shell energy, up to a constant */
+    loc[6 * ns + m->shell] += p * p;                          /* and its scatter */
 }
 
 /* Count the Fourier modes of every shell below ns, whether or not they carry power, with the
@@ -224,7 +226,7 @@ static hx_status finish_mix(hx_field *f)
     }
     const double kphys = 2.0 * M_PI / f->g.lmax; /* |k| above is in units of 2 pi / lmax */
     f->sum = (hx_field_summary){ns, f->sol, f->comp, f->modes, es + ec > 0 ? ec / (es + ec) : 0.0, sqrt(2.0 * (es + ec)),
-                                kphys * sqrt(kc), kphys * sqrt(ks + kc)};
+                                kphys * sqrt(kc), kphys * sqrt(ks + kc), f->loc + 5 * ns, f->loc + 6 * ns};
     f->ready = 1;
 fail:
     return st;

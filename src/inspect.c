@@ -20,36 +20,72 @@ typedef struct {
     hx_grid g;
     MPI_Comm comm;
     fftw_complex *a, *b, *planes;
+    fftw_complex *pny, *pnz; /* k'·v̂' of the unstored partners on the y and z Nyquist planes */
+    double *kp[3], *ku[3];   /* per axis: physical wavenumber, wavenumber in units of 2 pi / lmax */
+    int *shell_of;           /* cubic boxes: shell of each integer |k|^2 (units 2 pi / lmax)     */
     double *rho;
     fftw_plan r2c, c2r;
     double ell;        /* remove_scale */
+    const char *file, *density; /* for messages */
     double grad2, div2; /* local sums of |k|^2 |v̂|^2 and |k·v̂|^2 (both halves) */
     int slices;
 } work_t;
 
 /* One mode of the local k-space slab. */
 typedef struct {
-    double w, kp[3], k2p, khat[3];
+    double w, kp[3], k2p;
     int shell, zsign;
+    double complex *partner; /* accumulator of the unstored partner when it is not at -k, else NULL */
 } kmode_t;
+
+/* Per-axis wavenumbers (physical and in units of 2 pi / lmax) and, for cubic boxes where
+ * |k|^2 in those units is an integer, the shell of every |k|^2: no square root per mode. */
+static hx_status tables(work_t *W)
+{
+    const hx_grid *g = &W->g;
+    int cubic = g->box[0] == g->box[1] && g->box[1] == g->box[2];
+    for (int a = 0; a < 3; a++) {
+        W->kp[a] = malloc((size_t)g->n[a] * sizeof(double));
+        W->ku[a] = malloc((size_t)g->n[a] * sizeof(double));
+        if (!W->kp[a] || !W->ku[a]) return hx_error_set(HX_ERR_MEM, "out of memory for wavenumber tables");
+        for (ptrdiff_t i = 0; i < g->n[a]; i++) {
+            ptrdiff_t n = hx_grid_freq(i, g->n[a]);
+            W->kp[a][i] = 2.0 * M_PI * (double)n / g->box[a];
+            W->ku[a][i] = (double)n * hx_grid_kunit(g, a);
+        }
+    }
+    if (!cubic) return HX_OK;
+    int64_t nq = 0;
+    for (int a = 0; a < 3; a++) nq += (g->n[a] / 2) * (g->n[a] / 2);
+    W->shell_of = malloc((size_t)(nq + 1) * sizeof(int));
+    if (!W->shell_of) return hx_error_set(HX_ERR_MEM, "out of memory for the shell table");
+    for (int64_t q = 0; q <= nq; q++) W->shell_of[q] = (int)(sqrt((double)q) + 0.5);
+    return HX_OK;
+}
 
 static inline void kmode(const work_t *W, ptrdiff_t y, ptrdiff_t z, ptrdiff_t x, kmode_t *m)
 {
     const hx_grid *g = &W->g;
-    ptrdiff_t n[3] = {hx_grid_freq(x, g->n[0]), hx_grid_freq(y, g->n[1]), hx_grid_freq(z, g->n[2])};
-    double ku2 = 0;
-    m->k2p = 0;
-    for (int a = 0; a < 3; a++) {
-        double ku = (double)n[a] * hx_grid_kunit(g, a);
-        ku2 += ku * ku;
-        m->kp[a] = 2.0 * M_PI * (double)n[a] / g->box[a];
-        m->k2p += m->kp[a] * m->kp[a];
-    }
-    double kn = sqrt(m->k2p);
-    for (int a = 0; a < 3; a++) m->khat[a] = kn > 0 ? m->kp[a] / kn : 0.0;
-    m->shell = (int)(sqrt(ku2) + 0.5);
+    m->kp[0] = W->kp[0][x], m->kp[1] = W->kp[1][y], m->kp[2] = W->kp[2][z];
+    m->k2p = m->kp[0] * m->kp[0] + m->kp[1] * m->kp[1] + m->kp[2] * m->kp[2];
+    double ku2 = W->ku[0][x] * W->ku[0][x] + W->ku[1][y] * W->ku[1][y] + W->ku[2][z] * W->ku[2][z];
+    m->shell = W->shell_of ? W->shell_of[(int64_t)(ku2 + 0.5)] : (int)(sqrt(ku2) + 0.5);
     m->w = (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
     m->zsign = (z % 2) ? -1 : 1; /* e^{2 pi i z (Nz/2) / Nz} for the mid-plane z = Nz/2 */
+    /* The unstored partner of a weight-2 mode is normally -k. On a y or z Nyquist plane its
+     * Nyquist component stays -N/2 (numpy's fftfreq convention), so its direction differs
+     * and its projection needs an accumulator of its own. */
+    m->partner = NULL;
+    if (m->w == 2.0 && 2 * y == g->n[1]) m->partner = (double complex *)W->pny + z * g->nxc + x;
+    else if (m->w == 2.0 && 2 * z == g->n[2]) m->partner = (double complex *)W->pnz + (y - g->y0) * g->nxc + x;
+}
+
+/* Wavevector of the partner of m: -k with the Nyquist components kept at -N/2. */
+static inline void partner_k(const work_t *W, ptrdiff_t y, ptrdiff_t z, const kmode_t *m, double kq[3])
+{
+    kq[0] = -m->kp[0];
+    kq[1] = 2 * y == W->g.n[1] ? m->kp[1] : -m->kp[1];
+    kq[2] = 2 * z == W->g.n[2] ? m->kp[2] : -m->kp[2];
 }
 
 static int shells_needed(const hx_grid *g)
@@ -83,7 +119,12 @@ static void accumulate(work_t *W, int c, hx_diag *d)
                 d->shell_e[m.shell] += 0.5 * m.w * e;
                 if (c == 0) d->shell_modes[m.shell] += m.w;
                 W->grad2 += m.w * m.k2p * e;
-                B[i] += m.khat[c] * X;
+                B[i] += m.kp[c] * X; /* k·v̂, divided by |k| only once at the end */
+                if (m.partner) { /* the partner holds conj(X) at its own wavevector */
+                    double kq[3];
+                    partner_k(W, y, z, &m, kq);
+                    *m.partner += kq[c] * conj(X);
+                }
                 if (!W->slices) continue;
                 ptrdiff_t p = (y - g->y0) * g->nxc + x;
                 double complex iX = I * X * m.zsign;
@@ -95,7 +136,7 @@ static void accumulate(work_t *W, int c, hx_diag *d)
             }
 }
 
-/* After the three components: compressive energy and divergence from B. */
+/* After the three components: compressive energy |k·v̂|^2/|k|^2 and divergence from B = k·v̂. */
 static void accumulate_div(work_t *W, hx_diag *d)
 {
     const hx_grid *g = &W->g;
@@ -108,10 +149,16 @@ static void accumulate_div(work_t *W, hx_diag *d)
                 kmode(W, y, z, x, &m);
                 if (m.k2p == 0) continue;
                 double complex D = B[((y - g->y0) * g->n[2] + z) * g->nxc + x];
-                double e = creal(D * conj(D));
-                d->shell_comp[m.shell] += 0.5 * m.w * e;
-                W->div2 += m.w * m.k2p * e;
-                if (W->slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * sqrt(m.k2p) * D * m.zsign;
+                double e = creal(D * conj(D)), wt = m.w, inv = 1.0 / m.k2p;
+                if (m.partner) { /* count the stored mode once and its partner with its own projection */
+                    double ep = creal(*m.partner * conj(*m.partner));
+                    d->shell_comp[m.shell] += 0.5 * ep * inv;
+                    W->div2 += ep;
+                    wt = 1.0;
+                }
+                d->shell_comp[m.shell] += 0.5 * wt * e * inv;
+                W->div2 += wt * e;
+                if (W->slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * D * m.zsign;
             }
 }
 
@@ -183,17 +230,24 @@ static hx_status setup(work_t *W, const hx_inspect_opts *o, hx_cube *cube, MPI_C
     HX_TRY(hx_grid_init(&W->g, cells, box, comm));
     const hx_grid *g = &W->g;
     W->comm = comm;
+    W->file = o->cube.file;
+    W->density = o->cube.density;
     W->ell = o->remove_scale;
     W->slices = o->slices;
     W->a = fftw_alloc_complex((size_t)g->alloc);
     W->b = fftw_alloc_complex((size_t)g->alloc);
     if (W->slices) W->planes = fftw_alloc_complex((size_t)(NPLANE * (g->ny > 0 ? g->ny : 1) * g->nxc));
+    HX_TRY(hx_error_agree(comm, tables(W)));
+    W->pny = fftw_alloc_complex((size_t)(g->n[2] * g->nxc));
+    W->pnz = fftw_alloc_complex((size_t)((g->ny > 0 ? g->ny : 1) * g->nxc));
     if (o->cube.density) W->rho = malloc((size_t)(g->nz > 0 ? g->nz : 1) * (size_t)g->n[1] * (size_t)g->n[0] * sizeof(double));
-    if (!W->a || !W->b || (W->slices && !W->planes) || (o->cube.density && !W->rho))
+    if (!W->a || !W->b || !W->pny || !W->pnz || (W->slices && !W->planes) || (o->cube.density && !W->rho))
         st = hx_error_set(HX_ERR_MEM, "cannot allocate the analysis slabs (%.1f MiB each) on rank %d",
                           (double)g->alloc * 16.0 / 1048576.0, g->rank);
     HX_TRY(hx_error_agree(comm, st));
     memset(W->b, 0, (size_t)g->alloc * sizeof(fftw_complex));
+    memset(W->pny, 0, (size_t)(g->n[2] * g->nxc) * sizeof(fftw_complex));
+    memset(W->pnz, 0, (size_t)((g->ny > 0 ? g->ny : 1) * g->nxc) * sizeof(fftw_complex));
     if (W->slices) memset(W->planes, 0, (size_t)(NPLANE * (g->ny > 0 ? g->ny : 1) * g->nxc) * sizeof(fftw_complex));
     W->r2c = fftw_mpi_plan_dft_r2c_3d(g->n[2], g->n[1], g->n[0], (double *)W->a, W->a, comm, FFTW_ESTIMATE | FFTW_MPI_TRANSPOSED_OUT);
     if (W->ell > 0)
@@ -211,7 +265,14 @@ static void teardown(work_t *W)
     fftw_free(W->a);
     fftw_free(W->b);
     fftw_free(W->planes);
+    fftw_free(W->pny);
+    fftw_free(W->pnz);
     free(W->rho);
+    for (int a = 0; a < 3; a++) {
+        free(W->kp[a]);
+        free(W->ku[a]);
+    }
+    free(W->shell_of);
 }
 
 /* Read component c into slab A (times sqrt(rho) if mass-weighted); collective. */
@@ -237,7 +298,7 @@ static hx_status read_density(work_t *W, hx_cube *cube)
         if (!(W->rho[i] >= 0)) bad = 1;
         W->rho[i] = sqrt(W->rho[i]);
     }
-    st = bad ? hx_error_set(HX_ERR_ARG, "the density dataset holds negative or non-numeric values") : HX_OK;
+    st = bad ? hx_error_set(HX_ERR_ARG, "density %s in %s holds negative or non-numeric values", W->density, W->file) : HX_OK;
     return hx_error_agree(W->comm, st);
 }
 

@@ -57,6 +57,8 @@ static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *
     HX_TRY(hx_io_attr_doubles(io, G, "realized_vrms_kspace", &res->vrms_k, 0));
     HX_TRY(hx_io_attr_string(io, G, "spectrum_shape", hx_shape_name(r->shape)));
     HX_TRY(hx_io_attr_doubles(io, G, "slope", &r->slope, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "slope_fit_expected", &res->slope_fit, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "slope_fit_sigma", &res->slope_sigma, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "kmin", &r->kmin, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "kmax", &r->kmax, 0));
     HX_TRY(hx_io_attr_string(io, G, "amplitudes", r->amplitudes == HX_AMP_FIXED ? "fixed" : "gaussian"));
@@ -97,6 +99,27 @@ static hx_status fill_diag(hx_diag *d, const hx_field_summary *sum, const hx_gri
     d->fit_kmax = r->kmax;
     hx_diag_finish(d);
 fail:
+    return st;
+}
+
+/* What the compensated slope fit should give on this grid, band and mode set if every shell
+ * held its expected energy, and how much a Gaussian draw scatters it. A mode's energy
+ * alpha^2 |P_perp w|^2 + beta^2 |P_par w|^2 is Gamma(2) and exponential parts, so its relative
+ * variance is (2 alpha^4 + beta^4) / (2 alpha^2 + beta^2)^2; a shell's is that times
+ * sum (wA^2)^2 / (sum wA^2)^2. Fixed amplitudes scatter less: the Gaussian value bounds them. */
+static hx_status expected_slope(const hx_field_summary *sum, const hx_recipe *r, double *slope, double *sigma)
+{
+    hx_status st = HX_OK;
+    double *relvar = NULL, al, be, err;
+    HX_ALLOC(relvar, sum->nshell);
+    hx_mix_weights(r, &al, &be);
+    if (r->exact != HX_EXACT_NONE) al = 1.0, be = 1.0; /* pinned mixes keep each shell's unmixed draw */
+    double kappa = (2 * al * al * al * al + be * be * be * be) / ((2 * al * al + be * be) * (2 * al * al + be * be));
+    for (int s = 0; s < sum->nshell; s++)
+        relvar[s] = sum->power[s] > 0 ? kappa * sum->power_sq[s] / (sum->power[s] * sum->power[s]) : 0.0;
+    hx_diag_fit_shells(sum->power, sum->modes, relvar, sum->nshell, r->kmin, r->kmax, slope, &err, sigma);
+fail:
+    free(relvar);
     return st;
 }
 
@@ -196,6 +219,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     res.vrms_k = sum->vrms_k;
     hx_field_timings(f, &res.t_draw, &res.t_fft);
     HX_TRY(fill_diag(&diag, sum, &g, r));
+    HX_TRY(expected_slope(sum, r, &res.slope_fit, &res.slope_sigma));
     HX_TRY(hx_make_peak_rss(comm, &res.peak_rss));
     res.t_total = MPI_Wtime() - t0;
     HX_TRY(write_provenance(io, r, &g, &res));

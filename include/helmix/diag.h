@@ -95,6 +95,12 @@ void hx_diag_set_moments(hx_diag *d, int c, const hx_moments *m);
  * e_comp, e_sol, fraction, and the slope fit over [fit_kmin, fit_kmax]. */
 void hx_diag_finish(hx_diag *d);
 
+/* The same fit on plain arrays; with relvar (relative variance of each shell's energy) it
+ * also gives sigma, the scatter of the fitted slope that this variance implies. Shells with
+ * less than 1e-28 of the total energy (round-off) are left out. */
+void hx_diag_fit_shells(const double *e, const double *modes, const double *relvar, int nshell, double kmin, double kmax,
+                        double *slope, double *err, double *sigma);
+
 /* Least-squares fit of log(shell_e[s] 4 pi s^2 / modes[s]) against log s over shells
  * kmin <= s <= kmax with power; *slope is minus the fitted exponent and *err its standard
  * error. NAN when fewer than three shells qualify. */

@@ -30,6 +30,9 @@ typedef struct hx_field_summary {
     double vrms_k;          /* 3D rms velocity from the k-space sums (Parseval)                      */
     double div_rms;         /* rms of div v, (sum |k . u|^2)^(1/2), physical k = 2 pi n / L          */
     double grad_rms;        /* (sum |k|^2 |u|^2)^(1/2): the rms velocity gradient                    */
+    const double *power;    /* per shell: sum of A(k)^2 over stored modes (weight 2 for kx > 0): the
+                             * expected shell energy of the draw, up to one constant factor          */
+    const double *power_sq; /* per shell: sum of (weight A(k)^2)^2, for the scatter of shell energies  */
 } hx_field_summary;
 
 /* Collective: allocate the slab of grid g and plan the in-place c2r transform.

@@ -17,6 +17,7 @@ typedef struct hx_make_result {
     double vrms_k;         /* 3D rms from the k-space sums                               */
     double vrms_x;         /* 3D rms recomputed from the values written (real space)      */
     double mean[3];        /* mean of each written component                              */
+    double slope_fit, slope_sigma; /* expected value and scatter of the compensated slope fit */
     double t_plan;         /* FFTW planning                                               */
     double t_draw;         /* filling k space: draws, projection, mix pass                */
     double t_fft;          /* the three c2r transforms                                    */

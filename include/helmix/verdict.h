@@ -13,7 +13,9 @@
 
 typedef struct hx_request {
     int has_vrms, has_fraction, has_slope, has_shell_fraction, has_recorded;
-    double vrms, fraction, slope;   /* requested values                                  */
+    double vrms, fraction, slope;   /* requested values; for helmix files slope is what the
+                                     * compensated fit should give on that grid and band     */
+    double slope_recipe;            /* the recipe's slope, reported for information (NAN: none) */
     double recorded_fraction;       /* share make says it wrote (free draws)              */
     double expected_fraction;       /* ensemble expectation, reported for information     */
     double tol_vrms, tol_fraction, tol_slope; /* vrms tolerance is relative              */
