@@ -110,6 +110,8 @@ hx_status hx_report_json(const char *path, const hx_diag *d, const hx_verdict *v
     cJSON_AddItemToObject(root, "cells", array(cells, 3));
     cJSON_AddItemToObject(root, "box", array(d->box, 3));
     cJSON_AddNumberToObject(root, "ranks", d->ranks);
+    cJSON_AddNumberToObject(root, "seconds", d->seconds);
+    cJSON_AddNumberToObject(root, "peak_rss_bytes", (double)d->peak_rss);
     cJSON_AddNumberToObject(root, "remove_scale", d->remove_scale);
     cJSON_AddBoolToObject(root, "mass_weighted", d->mass_weighted);
     cJSON_AddItemToObject(root, "mean", array(d->mean, 3));

@@ -48,6 +48,8 @@ typedef struct hx_diag {
     /* how the cube was analysed */
     double remove_scale;         /* 0: none */
     int mass_weighted;           /* 1: the field analysed is sqrt(rho) v */
+    double seconds;              /* wall time of the analysis (inspect) */
+    long long peak_rss;          /* largest resident set over the ranks, bytes (inspect) */
 } hx_diag;
 
 /* Free the arrays of d (not d itself) and zero it. Accepts NULL. */
