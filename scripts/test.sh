@@ -4,4 +4,4 @@ set -euo pipefail
 root=$(cd "$(dirname "$0")/.." && pwd)
 bash "$root/scripts/setup.sh"
 cd "$root/build"
-ctest --output-on-failure -j 2 "$@"
+ctest --output-on-failure "$@"  # one test at a time: concurrent mpiexec launches race on their session directories

@@ -456,7 +456,7 @@ def flatten_numbers(obj, prefix=""):
     return out
 
 
-def json_diff(a, b, rtol, skip=("ranks", "file", "helmix_version"), floors=None):
+def json_diff(a, b, rtol, skip=("ranks", "file", "helmix_version", "seconds", "peak_rss_bytes"), floors=None):
     """Largest relative difference between the numbers of two JSON reports.
 
     floors: {key prefix: absolute floor}; a difference below the floor of
