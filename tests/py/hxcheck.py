@@ -20,6 +20,7 @@ import argparse
 import configparser
 import os
 import shlex
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -166,9 +167,14 @@ class Helmix:
             cmd = [self.exe] + list(argv)
         else:
             cmd = list(self.mpiexec) + ["-n", str(ranks), self.exe] + list(argv)
+        # Each launch gets its own MPI session directory: launches that start at the same
+        # moment (the ensemble test runs two at a time) otherwise race to create the same one.
+        session = tempfile.mkdtemp(prefix="ompi-", dir=self.tmp)
+        env = dict(os.environ, OMPI_MCA_orte_tmpdir_base=session)
         t0 = time.time()
         proc = subprocess.run(cmd, cwd=cwd or self.tmp, capture_output=True,
-                              text=True, timeout=timeout)
+                              text=True, timeout=timeout, env=env)
+        shutil.rmtree(session, ignore_errors=True)
         return proc, cmd, time.time() - t0
 
     def make(self, recipe, ranks=1, out=None, sets=(), extra=(), name=None,
