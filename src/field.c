@@ -14,6 +14,16 @@
 #include "helmix/mix.h"
 #include "helmix/rng.h"
 
+/* One local mode: everything the passes need. */
+typedef struct mode_s {
+    double k;            /* |k| in units of 2 pi / lmax */
+    double khat[3];      /* unit wavevector (physical direction) */
+    double amp;          /* sqrt(E(k) / k^2) */
+    int shell;
+    int64_t n[3];
+    double weight;       /* 2 for x > 0 (the conjugate partner is not stored), 1 for x = 0 */
+} mode_t_;
+
 struct hx_field {
     hx_grid g;
     MPI_Comm comm;
@@ -34,6 +44,11 @@ struct hx_field {
     int ready;              /* summary valid                                              */
     hx_field_summary sum;
     double t_draw, t_fft;
+    /* one row of modes with power, their wavevectors and draws (nxc each) */
+    mode_t_ *rm;
+    int64_t (*rn)[3];
+    double (*rw)[6];
+    ptrdiff_t *rx;
 };
 
 hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags, MPI_Comm comm)
@@ -64,6 +79,13 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags,
                     f->kv[a][i] = i == g->n[a] / 2 ? NAN : (double)hx_grid_freq(i, g->n[a]) * hx_grid_kunit(g, a);
         }
     }
+    if (st == HX_OK) {
+        f->rm = malloc((size_t)g->nxc * sizeof *f->rm);
+        f->rn = malloc((size_t)g->nxc * sizeof *f->rn);
+        f->rw = malloc((size_t)g->nxc * sizeof *f->rw);
+        f->rx = malloc((size_t)g->nxc * sizeof *f->rx);
+        if (!f->rm || !f->rn || !f->rw || !f->rx) st = hx_error_set(HX_ERR_MEM, "out of memory for the row buffers");
+    }
     HX_TRY(hx_error_agree(comm, st));
     f->plan = fftw_mpi_plan_dft_c2r_3d(g->n[2], g->n[1], g->n[0], f->data, (double *)f->data, comm,
                                        plan_flags | FFTW_MPI_TRANSPOSED_IN);
@@ -79,15 +101,6 @@ fail:
 
 enum { NSUM = 7 }; /* per-shell sums: sol, comp, modes, k^2 sol, k^2 comp, w A^2, (w A^2)^2 */
 
-/* One local mode: everything the passes need. */
-typedef struct {
-    double k;            /* |k| in units of 2 pi / lmax */
-    double khat[3];      /* unit wavevector (physical direction) */
-    double amp;          /* sqrt(E(k) / k^2) */
-    int shell;
-    int64_t n[3];
-    double weight;       /* 2 for x > 0 (the conjugate partner is not stored), 1 for x = 0 */
-} mode_t_;
 
 /* Amplitude and |k| of a mode with squared wavenumber k2 (in the band). Cubic boxes have
  * integer k2 and use the table built by hx_field_mix; other boxes evaluate the spectrum. */
@@ -148,11 +161,24 @@ fail:
     return st;
 }
 
-/* The three complex draws of a mode, and k_hat . w. */
-static inline void draw(const hx_field *f, const mode_t_ *m, double complex w[3], double complex *kw)
+/* The modes with power of row (y, z), their draws (one batched call) and, per mode, the
+ * complex draws w and k_hat . w. Returns how many; rx[i] is the x index of mode i. */
+static int row_modes(hx_field *f, ptrdiff_t y, ptrdiff_t z)
 {
-    double v[6];
-    hx_rng_vector(f->r->seed, m->n[0], m->n[1], m->n[2], f->r->amplitudes, f->r->flip, v);
+    int n = 0;
+    for (ptrdiff_t x = 0; x < f->g.nxc; x++)
+        if (mode_at(f, y, z, x, &f->rm[n])) {
+            for (int a = 0; a < 3; a++) f->rn[n][a] = f->rm[n].n[a];
+            f->rx[n++] = x;
+        }
+    hx_rng_vectors(f->r->seed, (const int64_t(*)[3])f->rn, n, f->r->amplitudes, f->r->flip, f->rw);
+    return n;
+}
+
+static inline void draws_of(const hx_field *f, int i, double complex w[3], double complex *kw)
+{
+    const double *v = f->rw[i];
+    const mode_t_ *m = &f->rm[i];
     *kw = 0;
     for (int c = 0; c < 3; c++) {
         w[c] = v[2 * c] + I * v[2 * c + 1];
@@ -260,14 +286,14 @@ hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
     }
     double t0 = MPI_Wtime();
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
-        for (ptrdiff_t z = 0; z < g->n[2]; z++)
-            for (ptrdiff_t x = 0; x < g->nxc; x++) {
-                mode_t_ m;
+        for (ptrdiff_t z = 0; z < g->n[2]; z++) {
+            int n = row_modes(f, y, z);
+            for (int i = 0; i < n; i++) {
                 double complex w[3], kw;
-                if (!mode_at(f, y, z, x, &m)) continue;
-                draw(f, &m, w, &kw);
-                accumulate(f->loc, ns, &m, w, kw);
+                draws_of(f, i, w, &kw);
+                accumulate(f->loc, ns, &f->rm[i], w, kw);
             }
+        }
     f->t_draw += MPI_Wtime() - t0;
     st = finish_mix(f);
 fail:
@@ -287,19 +313,18 @@ static double fill(hx_field *f, int c, int sums)
         for (ptrdiff_t z = 0; z < g->n[2]; z++) {
             double complex *row = (double complex *)f->data + ((y - g->y0) * g->n[2] + z) * g->nxc;
             double complex pyz = (f->ph[1][2 * y] + I * f->ph[1][2 * y + 1]) * (f->ph[2][2 * z] + I * f->ph[2][2 * z + 1]);
-            for (ptrdiff_t x = 0; x < g->nxc; x++) {
-                mode_t_ m;
+            memset(row, 0, (size_t)g->nxc * sizeof *row);
+            int n = row_modes(f, y, z);
+            for (int i = 0; i < n; i++) {
+                const mode_t_ *m = &f->rm[i];
+                ptrdiff_t x = f->rx[i];
                 double complex w[3], kw;
-                if (!mode_at(f, y, z, x, &m)) {
-                    row[x] = 0;
-                    continue;
-                }
-                draw(f, &m, w, &kw);
-                if (sums) accumulate(f->loc, f->nshell, &m, w, kw);
-                double a = f->a[m.shell], b = f->b[m.shell];
-                double complex u = m.amp * (a * w[c] + (b - a) * m.khat[c] * kw);
+                draws_of(f, i, w, &kw);
+                if (sums) accumulate(f->loc, f->nshell, m, w, kw);
+                double a = f->a[m->shell], b = f->b[m->shell];
+                double complex u = m->amp * (a * w[c] + (b - a) * m->khat[c] * kw);
                 row[x] = u * pyz * (f->ph[0][2 * x] + I * f->ph[0][2 * x + 1]);
-                power += m.weight * creal(u * conj(u));
+                power += m->weight * creal(u * conj(u));
             }
         }
     return power;
@@ -381,6 +406,10 @@ void hx_field_destroy(hx_field **f)
     }
     free((*f)->tab_amp);
     free((*f)->tab_k);
+    free((*f)->rm);
+    free((*f)->rn);
+    free((*f)->rw);
+    free((*f)->rx);
     free_shells(*f);
     free(*f);
     *f = NULL;

@@ -28,4 +28,9 @@ static inline int hx_rng_canonical(int64_t nx, int64_t ny, int64_t nz)
  * fixed: |w_c| = 1 and a uniform random phase. flip negates. n = 0 gives 0. */
 void hx_rng_vector(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, hx_amplitudes amp, int flip, double w[6]);
 
+/* The same draws for `count` modes n[i] at once, into w[i][0..5]. Identical to calling
+ * hx_rng_vector for each; the first Philox block of every mode is computed round by round
+ * across the batch, so the processor overlaps the modes' independent multiply chains. */
+void hx_rng_vectors(uint64_t seed, const int64_t (*n)[3], int count, hx_amplitudes amp, int flip, double (*w)[6]);
+
 #endif

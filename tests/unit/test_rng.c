@@ -77,6 +77,27 @@ static void test_keying(void)
     CHECK(neg);
 }
 
+/* The batched draw is the same function as the single one, bit for bit, across batch
+ * boundaries, for canonical and conjugate modes, k = 0, both amplitude kinds and flip. */
+static void test_batch(void)
+{
+    enum { M = 157 };
+    int64_t n[M][3];
+    double w[M][6];
+    for (int i = 0; i < M; i++) n[i][0] = i % 7 - 3, n[i][1] = (i / 7) % 5 - 2, n[i][2] = i / 35 - 2;
+    for (int amp = 0; amp < 2; amp++)
+        for (int flip = 0; flip < 2; flip++) {
+            hx_rng_vectors(99, (const int64_t(*)[3])n, M, (hx_amplitudes)amp, flip, w);
+            int same = 1;
+            for (int i = 0; i < M; i++) {
+                double v[6];
+                hx_rng_vector(99, n[i][0], n[i][1], n[i][2], (hx_amplitudes)amp, flip, v);
+                for (int j = 0; j < 6; j++) same &= v[j] == w[i][j];
+            }
+            CHECK(same);
+        }
+}
+
 /* Moments: a complex Gaussian with E|w|^2 = 1 has E w = 0, E w^2 = 0 (circular), and
  * E|w|^4 = 2 (|w|^2 is exponential with mean 1; textbook); components of one mode are
  * uncorrelated (E w_x conj(w_y) = 0). Fixed amplitudes have |w| = 1. Tolerances are 5
@@ -118,6 +139,7 @@ int main(void)
     test_known_answers();
     test_hermitian();
     test_keying();
+    test_batch();
     test_moments();
     return hx_test_finish();
 }
