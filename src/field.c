@@ -38,7 +38,7 @@ struct hx_field {
     const hx_spectrum *sp;
     int nshell;
     double *sol, *comp, *modes, *a, *b; /* per shell */
-    double *loc;            /* per shell: local sums of sol, comp, modes, k^2 sol, k^2 comp */
+    double *loc;            /* per shell: local sums (NSUM of them, see accumulate)        */
     int deferred;           /* sums still to be taken during component 0 (exact = none)    */
     double alpha, beta;     /* exact = none: provisional weights of the deferred pass      */
     int ready;              /* summary valid                                              */
@@ -342,26 +342,22 @@ static void compact(hx_field *f, hx_precision prec, double scale, hx_moments *mo
         double *dst = (double *)f->data;
         for (ptrdiff_t r = 0; r < rows; r++) {
             memmove(dst + r * nx, src + r * stride, (size_t)nx * sizeof *dst);
-            for (ptrdiff_t i = 0; i < nx; i++) {
-                dst[r * nx + i] *= scale;
-                hx_moments_add(mom, dst[r * nx + i]);
-            }
+            for (ptrdiff_t i = 0; i < nx; i++) dst[r * nx + i] *= scale;
+            hx_moments_add_doubles(mom, dst + r * nx, nx);
         }
     } else {
         float *dst = (float *)f->data;
-        for (ptrdiff_t r = 0; r < rows; r++)
-            for (ptrdiff_t i = 0; i < nx; i++) {
-                float v = (float)(scale * src[r * stride + i]);
-                dst[r * nx + i] = v;
-                hx_moments_add(mom, v);
-            }
+        for (ptrdiff_t r = 0; r < rows; r++) {
+            for (ptrdiff_t i = 0; i < nx; i++) dst[r * nx + i] = (float)(scale * src[r * stride + i]);
+            hx_moments_add_floats(mom, dst + r * nx, nx);
+        }
     }
 }
 
 hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void **slab, hx_moments *mom)
 {
     hx_status st = HX_OK;
-    hx_moments local;
+    hx_moments *local = NULL;
     if (c < 0 || c > 2 || !f->r) HX_FAIL(HX_ERR_ARG, "component %d requested before hx_field_mix or out of 0..2", c);
     if (f->deferred && c != 0 && !f->ready) HX_FAIL(HX_ERR_ARG, "with exact = none component 0 must come first");
     int sums = f->deferred && !f->ready;
@@ -376,16 +372,17 @@ hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void *
     double t2 = MPI_Wtime();
     fftw_execute(f->plan);
     double t3 = MPI_Wtime();
-    hx_moments_init(&local, 0.0, scale * sqrt(power)); /* mean 0: the k = 0 mode is empty */
-    local.n = (double)hx_grid_cells(&f->g);
-    compact(f, prec, scale, &local);
+    HX_ALLOC(local, 1);
+    hx_moments_init(local, 0.0, scale * sqrt(power)); /* mean 0: the k = 0 mode is empty */
+    local->n = (double)hx_grid_cells(&f->g);
+    compact(f, prec, scale, local);
     f->t_draw += t1 - t0;
     f->t_fft += t3 - t2;
-    HX_TRY(hx_moments_reduce(&local, f->comm));
-    if (mom) *mom = local;
+    HX_TRY(hx_moments_reduce(local, f->comm));
+    if (mom) *mom = *local;
     *slab = f->data;
-    return HX_OK;
 fail:
+    free(local);
     return st;
 }
 

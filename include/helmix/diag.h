@@ -68,24 +68,26 @@ hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec
 
 /* One-pass moment sums for values whose centre and spread are known in advance (the
  * generator knows each component's variance from its k-space sums and its mean is zero):
- * power sums about `center` and a histogram of (v - center)/scale. */
+ * power sums about `center` and a histogram of (v - center)/scale. Four interleaved lanes of
+ * sums and histograms keep the additions of neighbouring values independent (the loop would
+ * otherwise wait on one running sum); they are combined by hx_moments_reduce. */
+enum { HX_MOMENT_LANES = 4 };
+
 typedef struct hx_moments {
     double center, scale, n;
-    double s1, s2, s3, s4;       /* sums of d, d^2, d^3, d^4 with d = v - center */
-    double hist[HX_DIAG_BINS];
+    double s1, s2, s3, s4;       /* sums of d, d^2, d^3, d^4 with d = v - center (after reduce) */
+    double hist[HX_DIAG_BINS];   /* counts per bin (after reduce)                              */
+    double lane[HX_MOMENT_LANES][4];
+    double lane_hist[HX_MOMENT_LANES][HX_DIAG_BINS];
 } hx_moments;
 
 void hx_moments_init(hx_moments *m, double center, double scale);
 
-static inline void hx_moments_add(hx_moments *m, double v)
-{
-    double d = v - m->center, d2 = d * d;
-    m->s1 += d, m->s2 += d2, m->s3 += d2 * d, m->s4 += d2 * d2;
-    double b = (d / m->scale + HX_DIAG_PDF_RANGE) * (HX_DIAG_BINS / (2.0 * HX_DIAG_PDF_RANGE));
-    if (b >= 0 && b < HX_DIAG_BINS) m->hist[(int)b] += 1.0; /* b >= 0: truncation is floor */
-}
+/* Add n consecutive values, doubles or floats. Not collective. */
+void hx_moments_add_doubles(hx_moments *m, const double *v, int64_t n);
+void hx_moments_add_floats(hx_moments *m, const float *v, int64_t n);
 
-/* Collective: sum m over comm (m->n must already hold the global count). */
+/* Collective: combine the lanes and sum over comm (m->n must already hold the global count). */
 hx_status hx_moments_reduce(hx_moments *m, MPI_Comm comm);
 
 /* mean, rms, skewness, excess kurtosis and PDF of component c from reduced sums. The PDF

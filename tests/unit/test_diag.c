@@ -44,7 +44,7 @@ static void test_one_pass(void)
     const double v[4] = {0, 0, 0, 3};
     hx_moments_init(&m, 0.0, 1.5);
     m.n = 4;
-    for (int i = 0; i < 4; i++) hx_moments_add(&m, v[i]);
+    hx_moments_add_doubles(&m, v, 4);
     CHECK(hx_moments_reduce(&m, MPI_COMM_WORLD) == HX_OK);
     hx_diag_set_moments(&d, 0, &m);
     CHECK_CLOSE(d.mean[0], 0.75, 1e-15);
