@@ -33,3 +33,8 @@ INI
 
 # Peak memory per rank is about one complex slab: 1024^3 * 8 bytes / ranks (~64 MiB at 128 ranks).
 srun helmix make ic1024.ini
+
+# Refuse to go on with a cube that does not hold what was asked (exit status 1 on a failed line).
+srun helmix inspect ic1024.h5 --check --json ic1024-check.json --plot ic1024-report.pdf --quiet
+
+# ... start the simulation from ic1024.h5 here ...
