@@ -142,7 +142,8 @@ static hx_status outputs(const inspect_args *a, const hx_diag *d, const hx_reque
     if (a->csv && st == HX_OK) st = hx_report_csv(a->csv, d);
     if (a->plot && st == HX_OK) {
         /* the page shows grid and version under the title already */
-        hx_plot_request pr = {q->has_slope ? q->slope : NAN, q->has_fraction ? q->fraction : NAN, a->o.cube.file};
+        double guide = isfinite(q->slope_recipe) ? q->slope_recipe : q->slope; /* the recipe's index, not the fit's expectation */
+        hx_plot_request pr = {q->has_slope ? guide : NAN, q->has_fraction ? q->fraction : NAN, a->o.cube.file};
         st = hx_plot_report(d, &pr, a->plot);
     }
     return st;
