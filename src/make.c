@@ -218,8 +218,9 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     res.fraction = sum->fraction;
     res.vrms_k = sum->vrms_k;
     hx_field_timings(f, &res.t_draw, &res.t_fft);
-    HX_TRY(fill_diag(&diag, sum, &g, r));
-    HX_TRY(expected_slope(sum, r, &res.slope_fit, &res.slope_sigma));
+    /* local allocations only, but a failure must reach every rank before the next collective */
+    HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &g, r)));
+    HX_TRY(hx_error_agree(comm, expected_slope(sum, r, &res.slope_fit, &res.slope_sigma)));
     HX_TRY(hx_make_peak_rss(comm, &res.peak_rss));
     res.t_total = MPI_Wtime() - t0;
     HX_TRY(write_provenance(io, r, &g, &res));
