@@ -470,6 +470,7 @@ static const key keys[] = {
      parse_precision, show_precision, 0, 0},
 };
 #define NKEYS ((int)(sizeof keys / sizeof keys[0]))
+_Static_assert(sizeof keys / sizeof keys[0] <= HX_RECIPE_MAX_KEYS, "hx_recipe.line has room for every key");
 
 static const key *find_key(const char *section, const char *name)
 {
@@ -693,6 +694,7 @@ static int on_key(void *user, const char *section, const char *name, const char 
     if (why)
         return parse_fail(ps, ps->line, HX_ERR_ARG, "[%s] %s = %.*s: %s", k->section, k->name, SHOW_MAX, value,
                           why);
+    ps->r->line[k - keys] = ps->line;
     return 1;
 }
 
@@ -759,6 +761,7 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
     hx_recipe work = *r;
     const char *why = apply(k, &work, value, NULL);
     if (why) return hx_error_set(HX_ERR_ARG, "--set %.*s: %s", SHOW_MAX, a, why);
+    work.line[k - keys] = 0;
     *r = work;
     return HX_OK;
 }
@@ -768,8 +771,8 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
 static hx_status invalid(const hx_recipe *r, const char *name, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 
-/* "[section] key = current value: why". Validation sees no lines: values may come from
- * several files, --set or code, so the message names the key and its value instead. */
+/* "line N: [section] key = current value: why", the line where the recipe text set the key
+ * (left out when the value is a default or came from --set). */
 static hx_status invalid(const hx_recipe *r, const char *name, const char *fmt, ...)
 {
     const key *k = NULL;
@@ -781,7 +784,9 @@ static hx_status invalid(const hx_recipe *r, const char *name, const char *fmt, 
     va_start(ap, fmt);
     vsnprintf(why, sizeof why, fmt, ap);
     va_end(ap);
-    return hx_error_set(HX_ERR_ARG, "[%s] %s = %.*s: %s", k ? k->section : "?", name, SHOW_MAX, value, why);
+    char where[32] = "";
+    if (k && r->line[k - keys] > 0) snprintf(where, sizeof where, "line %d: ", r->line[k - keys]);
+    return hx_error_set(HX_ERR_ARG, "%s[%s] %s = %.*s: %s", where, k ? k->section : "?", name, SHOW_MAX, value, why);
 }
 
 double hx_recipe_kmax_limit(const hx_recipe *r)

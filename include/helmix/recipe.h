@@ -20,6 +20,7 @@ typedef enum { HX_AMP_GAUSSIAN = 0, HX_AMP_FIXED } hx_amplitudes;
 typedef enum { HX_PREC_SINGLE = 0, HX_PREC_DOUBLE } hx_precision;
 
 #define HX_PATH_MAX 4096
+#define HX_RECIPE_MAX_KEYS 32
 
 /* A validated recipe. Plain data: copy it freely. */
 typedef struct hx_recipe {
@@ -45,6 +46,9 @@ typedef struct hx_recipe {
     /* [output] */
     char file[HX_PATH_MAX];
     hx_precision precision;
+    /* where each key (in key-table order) was last set: its line in the recipe text, or 0
+     * for a default or a --set; lets cross-key messages point at the line */
+    int line[HX_RECIPE_MAX_KEYS];
 } hx_recipe;
 
 /* Fill r with every default (cells = 0 meaning "not given"). */

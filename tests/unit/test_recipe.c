@@ -210,6 +210,22 @@ static void test_cross_key(void)
     CHECK(hx_recipe_validate(&r) == HX_OK && r.exact == HX_EXACT_NONE && r.mix_mode == HX_MIX_FRACTION);
 }
 
+/* Cross-key rules name the line that set the offending key; a --set value has no line. */
+static void test_validate_lines(void)
+{
+    hx_recipe r;
+    hx_recipe_defaults(&r);
+    CHECK(hx_recipe_parse(&r, "[grid]\ncells = 32\n\n[spectrum]\nkmin = 4\nkmax = 40\n", "k.ini", NULL) == HX_OK);
+    CHECK(hx_recipe_validate(&r) == HX_ERR_ARG);
+    CHECK_STR_CONTAINS(hx_error_message(), "line 6: [spectrum] kmax = 40");
+    hx_recipe_defaults(&r);
+    CHECK(hx_recipe_parse(&r, "[grid]\ncells = 32\n[spectrum]\nkmax = 10\n", "k.ini", NULL) == HX_OK);
+    CHECK(hx_recipe_set(&r, "spectrum.kmin=12") == HX_OK);
+    CHECK(hx_recipe_validate(&r) == HX_ERR_ARG);
+    CHECK_STR_CONTAINS(hx_error_message(), "[spectrum] kmin = 12");
+    CHECK(strstr(hx_error_message(), "line ") == NULL);
+}
+
 /* Spec: limit = min over axes of (N_i/2 - 1) * max(L)/L_i, in units of 2 pi / max(L). */
 static void test_kmax_limit(void)
 {
@@ -405,6 +421,7 @@ int main(void)
     test_suggestions();
     test_cross_key();
     test_kmax_limit();
+    test_validate_lines();
     test_table();
     test_set();
     test_round_trip();
