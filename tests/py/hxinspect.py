@@ -55,13 +55,11 @@ SRC_GAUSS_FILTER = ("Gaussian filter transfer function exp(-k^2 l^2 / 2) "
 # running inspect
 # ----------------------------------------------------------------------------
 
-class InspectRun:
+class InspectRun(H.Run):
+    """A finished `helmix inspect` (exit status, output, command) with its JSON report parsed."""
+
     def __init__(self, proc, cmd, seconds, json_path, csv_path):
-        self.rc = proc.returncode
-        self.stdout = proc.stdout
-        self.stderr = proc.stderr
-        self.cmd = cmd
-        self.seconds = seconds
+        super().__init__(proc, json_path, cmd, seconds)
         self.json_path = json_path
         self.csv_path = csv_path
         self.json = None
@@ -73,17 +71,9 @@ class InspectRun:
             except Exception as e:  # reported by the caller's checks
                 self.json_error = repr(e)
 
-    @property
-    def ok(self):
-        return self.rc == 0
-
     def lines(self):
         """helmix's own stderr lines (the launcher's banner removed)."""
         return H.mpi_noise_free_lines(self.stderr)
-
-    def describe(self):
-        return (f"rc={self.rc} cmd={' '.join(self.cmd)}\n"
-                f"stderr: {self.stderr.strip()[:1500]}")
 
 
 def _reject_constant(name):
