@@ -34,7 +34,7 @@ struct hx_field {
     double kmin2, kmax2;    /* band limits, squared                                       */
     double *tab_amp, *tab_k; /* cubic boxes: amplitude and |k| by integer k^2 (else NULL)   */
     int64_t ntab;
-    const hx_recipe *r;
+    const hx_desc *d;
     const hx_spectrum *sp;
     int nshell;
     double *sol, *comp, *modes, *a, *b; /* per shell */
@@ -142,8 +142,8 @@ static hx_status prepare_band(hx_field *f)
     hx_status st = HX_OK;
     const hx_grid *g = &f->g;
     /* a hair of slack so modes exactly on kmin or kmax are kept despite rounding of k^2 */
-    f->kmin2 = f->r->kmin * f->r->kmin * (1 - 1e-12);
-    f->kmax2 = f->r->kmax * f->r->kmax * (1 + 1e-12);
+    f->kmin2 = f->d->spectrum.kmin * f->d->spectrum.kmin * (1 - 1e-12);
+    f->kmax2 = f->d->spectrum.kmax * f->d->spectrum.kmax * (1 + 1e-12);
     free(f->tab_amp);
     free(f->tab_k);
     f->tab_amp = f->tab_k = NULL;
@@ -171,15 +171,23 @@ static int row_modes(hx_field *f, ptrdiff_t y, ptrdiff_t z)
             for (int a = 0; a < 3; a++) f->rn[n][a] = f->rm[n].n[a];
             f->rx[n++] = x;
         }
-    hx_rng_vectors(f->r->seed, (const int64_t(*)[3])f->rn, n, f->r->amplitudes, f->r->flip, f->rw);
+    hx_rng_vectors(f->d->seed, (uint64_t)f->d->stream, (const int64_t(*)[3])f->rn, n, f->d->amplitudes, f->d->flip,
+                   f->rw);
     return n;
 }
 
+/* The draws of mode i as three complex numbers and k_hat . w. A scalar keeps only the first
+ * draw, with no compressive part: then every sum and fill below serves it unchanged. */
 static inline void draws_of(const hx_field *f, int i, double complex w[3], double complex *kw)
 {
     const double *v = f->rw[i];
     const mode_t_ *m = &f->rm[i];
     *kw = 0;
+    if (f->d->ncomp == 1) {
+        w[0] = v[0] + I * v[1];
+        w[1] = w[2] = 0;
+        return;
+    }
     for (int c = 0; c < 3; c++) {
         w[c] = v[2 * c] + I * v[2 * c + 1];
         *kw += m->khat[c] * w[c];
@@ -228,6 +236,14 @@ static void count_modes(const hx_field *f, double *modes, int ns)
         }
 }
 
+/* The mix rule of a field: a scalar is "all solenoidal" (its draws have no k_hat part), held
+ * exactly at its rms. */
+static const hx_mix_spec *mix_of(const hx_desc *d)
+{
+    static const hx_mix_spec scalar = {HX_MIX_FRACTION, NAN, 0.0, HX_EXACT_TOTAL};
+    return d->ncomp == 1 ? &scalar : &d->mix;
+}
+
 /* Reduce the local shell sums, solve the mix and keep the final field's energies.
  * Collective. */
 static hx_status finish_mix(hx_field *f)
@@ -239,7 +255,7 @@ static hx_status finish_mix(hx_field *f)
     memcpy(f->sol, f->loc, (size_t)ns * sizeof *f->sol);
     memcpy(f->comp, f->loc + ns, (size_t)ns * sizeof *f->comp);
     memcpy(f->modes, f->loc + 2 * ns, (size_t)ns * sizeof *f->modes);
-    HX_TRY(hx_mix_solve(f->r, f->sol, f->comp, ns, f->a, f->b));
+    HX_TRY(hx_mix_solve(mix_of(f->d), f->d->rms, f->sol, f->comp, ns, f->a, f->b));
     /* From here on sol and comp hold the kinetic energy (|u|^2 / 2) of the final field. */
     double es = 0, ec = 0, ks = 0, kc = 0;
     for (int s = 0; s < ns; s++) {
@@ -258,16 +274,16 @@ fail:
     return st;
 }
 
-hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
+hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
 {
     hx_status st = HX_OK;
     const hx_grid *g = &f->g;
-    f->r = r;
+    f->d = d;
     f->sp = sp;
     f->ready = 0;
     free_shells(f);
     HX_TRY(prepare_band(f));
-    f->nshell = (int)(r->kmax + 0.5) + 2;
+    f->nshell = (int)(d->spectrum.kmax + 0.5) + 2;
     int ns = f->nshell;
     HX_ALLOC(f->sol, ns);
     HX_ALLOC(f->comp, ns);
@@ -278,9 +294,9 @@ hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp)
     /* exact = none needs no look-ahead: the factors are fixed weights up to one global
      * scale, so the sums ride along with the first component and the scale is applied to it
      * after the transform (linearity), saving a whole pass of draws. */
-    f->deferred = r->exact == HX_EXACT_NONE;
+    f->deferred = mix_of(d)->exact == HX_EXACT_NONE;
     if (f->deferred) {
-        hx_mix_weights(r, &f->alpha, &f->beta);
+        hx_mix_weights(mix_of(d), &f->alpha, &f->beta);
         for (int s = 0; s < ns; s++) f->a[s] = f->alpha, f->b[s] = f->beta;
         return HX_OK;
     }
@@ -358,7 +374,8 @@ hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void *
 {
     hx_status st = HX_OK;
     hx_moments *local = NULL;
-    if (c < 0 || c > 2 || !f->r) HX_FAIL(HX_ERR_ARG, "component %d requested before hx_field_mix or out of 0..2", c);
+    if (!f->d || c < 0 || c >= f->d->ncomp)
+        HX_FAIL(HX_ERR_ARG, "component %d requested before hx_field_mix or out of 0..%d", c, f->d ? f->d->ncomp - 1 : 2);
     if (f->deferred && c != 0 && !f->ready) HX_FAIL(HX_ERR_ARG, "with exact = none component 0 must come first");
     int sums = f->deferred && !f->ready;
     double t0 = MPI_Wtime();

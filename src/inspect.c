@@ -13,7 +13,6 @@
 #include <string.h>
 
 #include "check.h"
-#include "helmix/make.h"
 
 enum { PV = 0, PW = 3, PDIV = 6, NPLANE = 7 }; /* plane slots: v xyz, vorticity xyz, divergence */
 
@@ -359,7 +358,7 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     default_fit(d, o, q, *found);
     hx_diag_finish(d);
     if (W.slices) HX_TRY(make_slices(&W, d));
-    HX_TRY(hx_make_peak_rss(comm, &d->peak_rss));
+    HX_TRY(hx_log_peak_rss(comm, &d->peak_rss));
     d->seconds = MPI_Wtime() - t0;
     hx_log_say(log, HX_LOG_INFO, "analysis done in %.2f s, peak %.1f MiB per rank", d->seconds,
                (double)d->peak_rss / 1048576.0);

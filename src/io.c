@@ -14,7 +14,16 @@
 #include <unistd.h>
 
 #include "check.h"
+#include "helmix/schema.h"
 #include "helmix/version.h"
+
+/* One named field of the file: its datasets (one per component) and units. */
+typedef struct io_field {
+    char name[32];
+    int ncomp;
+    char unit[64];
+    hid_t dset[3];
+} io_field;
 
 struct hx_io {
     MPI_Comm comm;
@@ -22,12 +31,14 @@ struct hx_io {
     hx_grid g;
     hx_precision prec;
     hid_t file;
-    hid_t vel[3];
+    io_field field[HX_IO_MAX_FIELDS];
+    int nfield;
+    int created; /* the partial file exists: close must remove or rename it */
     char path[HX_PATH_MAX];
     char partial[HX_PATH_MAX + 16];
 };
 
-static const char *const comp_name[3] = {"velocity_x", "velocity_y", "velocity_z"};
+static hid_t mpio_fapl(MPI_Comm comm);
 
 hx_status hx_io_check_target(const char *path, int force, MPI_Comm comm)
 {
@@ -132,7 +143,7 @@ static hx_status write_gdf_skeleton(hx_io *w)
     HX_H5(grp, H5Gcreate2(w->file, "/gridded_data_format", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
     HX_TRY(fixed_str_attr(grp, "data_software", "helmix"));
     HX_TRY(fixed_str_attr(grp, "data_software_version", HX_VERSION));
-    HX_TRY(fixed_str_attr(grp, "data_comment", "turbulent velocity initial conditions (see /helmix)"));
+    HX_TRY(fixed_str_attr(grp, "data_comment", "turbulent initial conditions (see /helmix)"));
     H5Gclose(grp);
     grp = -1;
 
@@ -152,16 +163,7 @@ static hx_status write_gdf_skeleton(hx_io *w)
     H5Gclose(grp);
     grp = -1;
 
-    HX_H5(grp, H5Gcreate2(w->file, "/field_types", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
-    for (int c = 0; c < 3; c++) {
-        hid_t sg = H5Gcreate2(grp, comp_name[c], H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
-        if (sg < 0) HX_FAIL(HX_ERR_HDF5, "cannot create /field_types/%s", comp_name[c]);
-        st = fixed_str_attr(sg, "field_name", comp_name[c]);
-        if (st == HX_OK) st = fixed_str_attr(sg, "field_units", "code_length/code_time");
-        if (st == HX_OK) st = attr_write(sg, "staggering", H5T_STD_I32LE, H5T_NATIVE_INT32, &zero, 0);
-        H5Gclose(sg);
-        HX_TRY(st);
-    }
+    HX_H5(grp, H5Gcreate2(w->file, HX_SCHEMA_FIELD_TYPES, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
     H5Gclose(grp);
     grp = -1;
     HX_H5(grp, H5Gcreate2(w->file, "/particle_types", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
@@ -180,18 +182,73 @@ fail:
     return st;
 }
 
-static hx_status create_velocity(hx_io *w)
+hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *unit, int *id)
 {
     hx_status st = HX_OK;
-    hid_t grp = -1, space = -1;
+    hid_t grp = -1, types = -1, space = -1, sg = -1;
     hsize_t dims[3] = {(hsize_t)w->g.n[2], (hsize_t)w->g.n[1], (hsize_t)w->g.n[0]};
     hid_t ftype = w->prec == HX_PREC_DOUBLE ? H5T_IEEE_F64LE : H5T_IEEE_F32LE;
-    HX_H5(grp, group_open(w, "/data/grid_0000000000"));
+    int32_t zero = 0;
+    if (w->nfield == HX_IO_MAX_FIELDS || (ncomp != 1 && ncomp != 3) || strlen(name) >= sizeof w->field[0].name ||
+        strlen(unit) >= sizeof w->field[0].unit)
+        HX_FAIL(HX_ERR_ARG, "cannot add field '%s' with %d components (at most %d fields)", name, ncomp,
+                HX_IO_MAX_FIELDS);
+    io_field *fd = &w->field[w->nfield];
+    snprintf(fd->name, sizeof fd->name, "%s", name);
+    snprintf(fd->unit, sizeof fd->unit, "%s", unit);
+    fd->ncomp = ncomp;
+    for (int c = 0; c < 3; c++) fd->dset[c] = -1;
+    w->nfield++; /* from here on hx_io_close closes whatever was created */
+    HX_H5(grp, group_open(w, HX_SCHEMA_GRID));
+    HX_H5(types, H5Gopen2(w->file, HX_SCHEMA_FIELD_TYPES, H5P_DEFAULT));
     HX_H5(space, H5Screate_simple(3, dims, NULL));
-    for (int c = 0; c < 3; c++)
-        HX_H5(w->vel[c], H5Dcreate2(grp, comp_name[c], ftype, space, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    for (int c = 0; c < ncomp; c++) {
+        char comp[64];
+        hx_schema_component(comp, sizeof comp, name, ncomp, c);
+        HX_H5(fd->dset[c], H5Dcreate2(grp, comp, ftype, space, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+        HX_H5(sg, H5Gcreate2(types, comp, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+        HX_TRY(fixed_str_attr(sg, "field_name", comp));
+        HX_TRY(fixed_str_attr(sg, "field_units", unit));
+        HX_TRY(attr_write(sg, "staggering", H5T_STD_I32LE, H5T_NATIVE_INT32, &zero, 0));
+        H5Gclose(sg);
+        sg = -1;
+    }
+    if (id) *id = w->nfield - 1;
 fail:
+    if (sg >= 0) H5Gclose(sg);
     if (space >= 0) H5Sclose(space);
+    if (types >= 0) H5Gclose(types);
+    if (grp >= 0) H5Gclose(grp);
+    return st;
+}
+
+/* A scalar dataset /dataset_units/NAME holding value, with its unit as an attribute: where
+ * yt's Grid Data Format reader takes the code units from. */
+static hx_status unit_dataset(hx_io *w, hid_t grp, const char *name, double value, const char *unit)
+{
+    hx_status st = HX_OK;
+    hid_t space = -1, dset = -1;
+    HX_H5(space, H5Screate(H5S_SCALAR));
+    HX_H5(dset, H5Dcreate2(grp, name, H5T_IEEE_F64LE, space, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    if (w->rank != 0) HX_H5OK(H5Sselect_none(space));
+    HX_H5OK(H5Dwrite(dset, H5T_NATIVE_DOUBLE, space, space, H5P_DEFAULT, &value));
+    HX_TRY(str_attr(dset, "unit", unit));
+fail:
+    if (dset >= 0) H5Dclose(dset);
+    if (space >= 0) H5Sclose(space);
+    return st;
+}
+
+hx_status hx_io_units(hx_io *w, double length_cm, double mass_g, double time_s)
+{
+    hx_status st = HX_OK;
+    hid_t grp = -1;
+    HX_H5(grp, group_open(w, HX_SCHEMA_UNITS));
+    HX_TRY(unit_dataset(w, grp, "length_unit", length_cm, "cm"));
+    HX_TRY(unit_dataset(w, grp, "mass_unit", mass_g, "g"));
+    HX_TRY(unit_dataset(w, grp, "time_unit", time_s, "s"));
+    HX_TRY(unit_dataset(w, grp, "velocity_unit", length_cm / time_s, "cm/s"));
+fail:
     if (grp >= 0) H5Gclose(grp);
     return st;
 }
@@ -203,7 +260,6 @@ hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_preci
     hx_io *w = NULL;
     HX_ALLOC(w, 1);
     w->file = -1;
-    for (int c = 0; c < 3; c++) w->vel[c] = -1;
     w->comm = comm;
     w->g = *g;
     w->prec = prec;
@@ -211,12 +267,11 @@ hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_preci
     if (strlen(path) >= sizeof w->path) HX_FAIL(HX_ERR_ARG, "output path is longer than %d characters", HX_PATH_MAX - 1);
     snprintf(w->path, sizeof w->path, "%s", path);
     snprintf(w->partial, sizeof w->partial, "%s.partial", path);
-    HX_H5(fapl, H5Pcreate(H5P_FILE_ACCESS));
-    HX_H5OK(H5Pset_fapl_mpio(fapl, comm, MPI_INFO_NULL));
+    HX_H5(fapl, mpio_fapl(comm));
     w->file = H5Fcreate(w->partial, H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
     if (w->file < 0) HX_FAIL(HX_ERR_ARG, "cannot create %s (does the directory exist and is it writable?)", w->partial);
+    w->created = 1;
     HX_TRY(write_gdf_skeleton(w));
-    HX_TRY(create_velocity(w));
     H5Pclose(fapl);
     *out = w;
     return HX_OK;
@@ -226,15 +281,19 @@ fail:
     return st;
 }
 
-hx_status hx_io_write_component(hx_io *w, int c, const void *slab)
+static hx_status write_slab(hx_io *w, int id, int c, const void *slab, hid_t mtype)
 {
     hx_status st = HX_OK;
     hid_t fspace = -1, mspace = -1, dxpl = -1;
     const hx_grid *g = &w->g;
     hsize_t start[3] = {(hsize_t)g->z0, 0, 0}, count[3] = {(hsize_t)g->nz, (hsize_t)g->n[1], (hsize_t)g->n[0]};
     hsize_t one = 1;
-    hid_t mtype = w->prec == HX_PREC_DOUBLE ? H5T_NATIVE_DOUBLE : H5T_NATIVE_FLOAT;
-    HX_H5(fspace, H5Dget_space(w->vel[c]));
+    if (id < 0 || id >= w->nfield || c < 0 || c >= w->field[id].ncomp)
+        HX_FAIL(HX_ERR_ARG, "no field %d component %d in %s", id, c, w->partial);
+    hid_t dset = w->field[id].dset[c];
+    char comp[64];
+    hx_schema_component(comp, sizeof comp, w->field[id].name, w->field[id].ncomp, c);
+    HX_H5(fspace, H5Dget_space(dset));
     if (g->nz > 0) {
         HX_H5OK(H5Sselect_hyperslab(fspace, H5S_SELECT_SET, start, NULL, count, NULL));
         HX_H5(mspace, H5Screate_simple(3, count, NULL));
@@ -245,13 +304,68 @@ hx_status hx_io_write_component(hx_io *w, int c, const void *slab)
     }
     HX_H5(dxpl, H5Pcreate(H5P_DATASET_XFER));
     HX_H5OK(H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE));
-    if (H5Dwrite(w->vel[c], mtype, mspace, fspace, dxpl, slab) < 0)
-        HX_FAIL(HX_ERR_HDF5, "collective write of %s to %s failed (disk full or quota?)", comp_name[c], w->partial);
+    if (H5Dwrite(dset, mtype, mspace, fspace, dxpl, slab) < 0)
+        HX_FAIL(HX_ERR_HDF5, "collective write of %s to %s failed (disk full or quota?)", comp, w->partial);
 fail:
     if (dxpl >= 0) H5Pclose(dxpl);
     if (mspace >= 0) H5Sclose(mspace);
     if (fspace >= 0) H5Sclose(fspace);
     return st;
+}
+
+hx_status hx_io_write_component(hx_io *w, int id, int c, const void *slab)
+{
+    return write_slab(w, id, c, slab, w->prec == HX_PREC_DOUBLE ? H5T_NATIVE_DOUBLE : H5T_NATIVE_FLOAT);
+}
+
+hx_status hx_io_write_doubles(hx_io *w, int id, int c, const double *slab)
+{
+    return write_slab(w, id, c, slab, H5T_NATIVE_DOUBLE);
+}
+
+const char *hx_io_partial(const hx_io *w) { return w->partial; }
+
+static hid_t mpio_fapl(MPI_Comm comm)
+{
+    hid_t fapl = H5Pcreate(H5P_FILE_ACCESS);
+    if (fapl >= 0 && H5Pset_fapl_mpio(fapl, comm, MPI_INFO_NULL) < 0) {
+        H5Pclose(fapl);
+        fapl = -1;
+    }
+    return fapl;
+}
+
+hx_status hx_io_pause(hx_io *w)
+{
+    hx_status st = HX_OK;
+    for (int i = 0; i < w->nfield; i++)
+        for (int c = 0; c < 3; c++) {
+            if (w->field[i].dset[c] >= 0 && H5Dclose(w->field[i].dset[c]) < 0 && st == HX_OK)
+                st = hx_error_set(HX_ERR_HDF5, "closing the datasets of %s failed", w->field[i].name);
+            w->field[i].dset[c] = -1;
+        }
+    if (w->file >= 0 && H5Fclose(w->file) < 0 && st == HX_OK)
+        st = hx_error_set(HX_ERR_HDF5, "closing %s failed (disk full?)", w->partial);
+    w->file = -1;
+    return hx_error_agree(w->comm, st);
+}
+
+hx_status hx_io_resume(hx_io *w)
+{
+    hx_status st = HX_OK;
+    hid_t fapl = -1;
+    HX_H5(fapl, mpio_fapl(w->comm));
+    w->file = H5Fopen(w->partial, H5F_ACC_RDWR, fapl);
+    if (w->file < 0) HX_FAIL(HX_ERR_HDF5, "cannot reopen %s", w->partial);
+    for (int i = 0; i < w->nfield; i++)
+        for (int c = 0; c < w->field[i].ncomp; c++) {
+            char path[128];
+            hx_schema_dataset(path, sizeof path, w->field[i].name, w->field[i].ncomp, c);
+            HX_H5(w->field[i].dset[c], H5Dopen2(w->file, path, H5P_DEFAULT));
+        }
+fail:
+    if (fapl >= 0) H5Pclose(fapl);
+    return hx_error_agree(w->comm, st);
 }
 
 hx_status hx_io_attr_string(hx_io *w, const char *group, const char *name, const char *value)
@@ -303,7 +417,18 @@ fail:
     return st;
 }
 
-/* XDMF 3 sidecar: cell-centred vector on a uniform (co-rectilinear) mesh. Rank 0 only. */
+/* One HDF5 data item of the sidecar. */
+static void xdmf_item(FILE *fp, const hx_io *w, const char *base, const char *comp, const char *indent)
+{
+    const hx_grid *g = &w->g;
+    fprintf(fp,
+            "%s<DataItem Format=\"HDF\" NumberType=\"Float\" Precision=\"%d\" Dimensions=\"%td %td %td\">"
+            "%s:" HX_SCHEMA_GRID "/%s</DataItem>\n",
+            indent, w->prec == HX_PREC_DOUBLE ? 8 : 4, g->n[2], g->n[1], g->n[0], base, comp);
+}
+
+/* XDMF 3 sidecar: cell-centred fields on a uniform (co-rectilinear) mesh, each vector also as
+ * its components. Rank 0 only. */
 static hx_status write_xdmf(const hx_io *w)
 {
     char xmf[HX_PATH_MAX + 8];
@@ -311,10 +436,9 @@ static hx_status write_xdmf(const hx_io *w)
     const char *base = strrchr(w->path, '/');
     base = base ? base + 1 : w->path;
     const hx_grid *g = &w->g;
-    int bytes = w->prec == HX_PREC_DOUBLE ? 8 : 4;
     FILE *fp = fopen(xmf, "w");
     if (!fp) return hx_error_set(HX_ERR_IO, "cannot write %s", xmf);
-    fprintf(fp, "<?xml version=\"1.0\" ?>\n<!-- helmix %s: velocity cube %s -->\n", HX_VERSION, base);
+    fprintf(fp, "<?xml version=\"1.0\" ?>\n<!-- helmix %s: initial conditions %s -->\n", HX_VERSION, base);
     fprintf(fp, "<Xdmf Version=\"3.0\">\n <Domain>\n  <Grid Name=\"helmix\" GridType=\"Uniform\">\n");
     fprintf(fp, "   <Topology TopologyType=\"3DCoRectMesh\" Dimensions=\"%td %td %td\"/>\n", g->n[2] + 1, g->n[1] + 1,
             g->n[0] + 1);
@@ -323,21 +447,26 @@ static hx_status write_xdmf(const hx_io *w)
     fprintf(fp, "    <DataItem Format=\"XML\" Dimensions=\"3\">%.17g %.17g %.17g</DataItem>\n", g->box[2] / (double)g->n[2],
             g->box[1] / (double)g->n[1], g->box[0] / (double)g->n[0]);
     fprintf(fp, "   </Geometry>\n");
-    fprintf(fp, "   <Attribute Name=\"velocity\" AttributeType=\"Vector\" Center=\"Cell\">\n");
-    fprintf(fp, "    <DataItem ItemType=\"Function\" Function=\"JOIN($0, $1, $2)\" Dimensions=\"%td %td %td 3\">\n",
-            g->n[2], g->n[1], g->n[0]);
-    for (int c = 0; c < 3; c++)
-        fprintf(fp,
-                "     <DataItem Format=\"HDF\" NumberType=\"Float\" Precision=\"%d\" Dimensions=\"%td %td %td\">"
-                "%s:/data/grid_0000000000/%s</DataItem>\n",
-                bytes, g->n[2], g->n[1], g->n[0], base, comp_name[c]);
-    fprintf(fp, "    </DataItem>\n   </Attribute>\n");
-    for (int c = 0; c < 3; c++)
-        fprintf(fp,
-                "   <Attribute Name=\"%s\" AttributeType=\"Scalar\" Center=\"Cell\">\n"
-                "    <DataItem Format=\"HDF\" NumberType=\"Float\" Precision=\"%d\" Dimensions=\"%td %td %td\">"
-                "%s:/data/grid_0000000000/%s</DataItem>\n   </Attribute>\n",
-                comp_name[c], bytes, g->n[2], g->n[1], g->n[0], base, comp_name[c]);
+    for (int i = 0; i < w->nfield; i++) {
+        const io_field *fd = &w->field[i];
+        char comp[64];
+        if (fd->ncomp == 3) {
+            fprintf(fp, "   <Attribute Name=\"%s\" AttributeType=\"Vector\" Center=\"Cell\">\n", fd->name);
+            fprintf(fp, "    <DataItem ItemType=\"Function\" Function=\"JOIN($0, $1, $2)\" Dimensions=\"%td %td %td 3\">\n",
+                    g->n[2], g->n[1], g->n[0]);
+            for (int c = 0; c < 3; c++) {
+                hx_schema_component(comp, sizeof comp, fd->name, 3, c);
+                xdmf_item(fp, w, base, comp, "     ");
+            }
+            fprintf(fp, "    </DataItem>\n   </Attribute>\n");
+        }
+        for (int c = 0; c < fd->ncomp; c++) {
+            hx_schema_component(comp, sizeof comp, fd->name, fd->ncomp, c);
+            fprintf(fp, "   <Attribute Name=\"%s\" AttributeType=\"Scalar\" Center=\"Cell\">\n", comp);
+            xdmf_item(fp, w, base, comp, "    ");
+            fprintf(fp, "   </Attribute>\n");
+        }
+    }
     fprintf(fp, "  </Grid>\n </Domain>\n</Xdmf>\n");
     if (fclose(fp) != 0) return hx_error_set(HX_ERR_IO, "cannot finish writing %s", xmf);
     return HX_OK;
@@ -348,11 +477,13 @@ hx_status hx_io_close(hx_io **wp, int commit)
     hx_status st = HX_OK;
     if (!wp || !*wp) return HX_OK;
     hx_io *w = *wp;
-    for (int c = 0; c < 3; c++)
-        if (w->vel[c] >= 0 && H5Dclose(w->vel[c]) < 0) st = hx_error_set(HX_ERR_HDF5, "closing %s failed", comp_name[c]);
+    for (int i = 0; i < w->nfield; i++)
+        for (int c = 0; c < 3; c++)
+            if (w->field[i].dset[c] >= 0 && H5Dclose(w->field[i].dset[c]) < 0 && st == HX_OK)
+                st = hx_error_set(HX_ERR_HDF5, "closing the datasets of %s failed", w->field[i].name);
     if (w->file >= 0 && H5Fclose(w->file) < 0 && st == HX_OK)
         st = hx_error_set(HX_ERR_HDF5, "closing %s failed (data may be incomplete)", w->partial);
-    if (w->file >= 0) {
+    if (w->created) {
         /* Everyone has closed before rank 0 renames; the verdict is shared. */
         hx_status agreed = hx_error_agree(w->comm, st);
         if (w->rank == 0) {

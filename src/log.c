@@ -2,6 +2,9 @@
 #include "helmix/log.h"
 
 #include <stdarg.h>
+#include <sys/resource.h>
+
+#include "check.h"
 
 void hx_log_init(hx_log *log, MPI_Comm comm, int verbosity, FILE *out)
 {
@@ -24,3 +27,14 @@ void hx_log_say(const hx_log *log, int level, const char *fmt, ...)
     fflush(log->out);
     va_end(ap);
 }
+
+hx_status hx_log_peak_rss(MPI_Comm comm, long long *bytes)
+{
+    hx_status st = HX_OK;
+    struct rusage ru;
+    long long mine = getrusage(RUSAGE_SELF, &ru) == 0 ? (long long)ru.ru_maxrss * 1024LL : 0;
+    HX_MPI(MPI_Allreduce(&mine, bytes, 1, MPI_LONG_LONG, MPI_MAX, comm));
+fail:
+    return st;
+}
+

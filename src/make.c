@@ -1,4 +1,5 @@
-/* make.c — the generator pipeline: prolog, k-space pass, three streamed components, epilog.
+/* make.c — the generator pipeline: prolog, density, k-space pass, three streamed velocity
+ * components (one pass, or a measuring and a writing pass when the cloud shapes them), epilog.
  * Invariant: every rank walks the same sequence of collective calls; a failure anywhere is
  * agreed before the next collective, and the partial file is removed. */
 #include "helmix/make.h"
@@ -7,35 +8,28 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/resource.h>
 
 #include "check.h"
+#include "helmix/cloud.h"
+#include "helmix/desc.h"
 #include "helmix/diag.h"
+#include "helmix/flow.h"
+#include "helmix/inspect.h"
 #include "helmix/field.h"
 #include "helmix/grid.h"
 #include "helmix/io.h"
 #include "helmix/mix.h"
+#include "helmix/schema.h"
 #include "helmix/spectrum.h"
 #include "helmix/version.h"
 
-static const char axis[3] = {'x', 'y', 'z'};
-
-hx_status hx_make_peak_rss(MPI_Comm comm, long long *bytes)
-{
-    hx_status st = HX_OK;
-    struct rusage ru;
-    long long mine = getrusage(RUSAGE_SELF, &ru) == 0 ? (long long)ru.ru_maxrss * 1024LL : 0;
-    HX_MPI(MPI_Allreduce(&mine, bytes, 1, MPI_LONG_LONG, MPI_MAX, comm));
-fail:
-    return st;
-}
 
 /* The /helmix group: the request, what was realized, and how long it took. */
 static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *g, const hx_make_result *res)
 {
     hx_status st = HX_OK;
     char *text = hx_recipe_render(r);
-    const char *G = "/helmix";
+    const char *G = HX_SCHEMA_PROVENANCE;
     double nan = NAN, v;
     if (!text) HX_FAIL(HX_ERR_MEM, "out of memory rendering the recipe");
     int64_t cells[3] = {g->n[0], g->n[1], g->n[2]}, ranks = g->size;
@@ -45,26 +39,28 @@ static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *
     HX_TRY(hx_io_attr_int64s(io, G, "ranks", &ranks, 0));
     HX_TRY(hx_io_attr_int64s(io, G, "cells", cells, 3));
     HX_TRY(hx_io_attr_doubles(io, G, "box", g->box, 3));
-    HX_TRY(hx_io_attr_string(io, G, "mix_mode", r->mix_mode == HX_MIX_ZETA ? "zeta" : "compressive_fraction"));
-    HX_TRY(hx_io_attr_doubles(io, G, "zeta", r->mix_mode == HX_MIX_ZETA ? &r->zeta : &nan, 0));
-    HX_TRY(hx_io_attr_string(io, G, "exact", hx_exact_name(r->exact)));
-    v = r->mix_mode == HX_MIX_FRACTION ? r->compressive_fraction : hx_mix_expected_fraction(r->zeta);
-    HX_TRY(hx_io_attr_doubles(io, G, "expected_compressive_fraction", &v, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "compressive_fraction_target", r->exact == HX_EXACT_NONE ? &nan : &v, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "realized_compressive_fraction", &res->fraction, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "vrms", &r->vrms, 0));
+    HX_TRY(hx_io_attr_string(io, G, "mix_mode", r->mix.mode == HX_MIX_ZETA ? "zeta" : "compressive_fraction"));
+    HX_TRY(hx_io_attr_doubles(io, G, "zeta", r->mix.mode == HX_MIX_ZETA ? &r->mix.zeta : &nan, 0));
+    HX_TRY(hx_io_attr_string(io, G, "exact", hx_exact_name(r->mix.exact)));
+    v = r->mix.mode == HX_MIX_FRACTION ? r->mix.compressive_fraction : hx_mix_expected_fraction(r->mix.zeta);
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_FRACTION_EXPECTED, &v, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_FRACTION_TARGET, r->mix.exact == HX_EXACT_NONE || res->as_written ? &nan : &v, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_FRACTION_REALIZED, &res->fraction, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_VRMS, r->amplitude_by == HX_AMPLITUDE_VRMS ? &r->vrms : &res->vrms_x, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "realized_vrms", &res->vrms_x, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "realized_vrms_kspace", &res->vrms_k, 0));
-    HX_TRY(hx_io_attr_string(io, G, "spectrum_shape", hx_shape_name(r->shape)));
-    HX_TRY(hx_io_attr_doubles(io, G, "slope", &r->slope, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "slope_fit_expected", &res->slope_fit, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "slope_fit_sigma", &res->slope_sigma, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "kmin", &r->kmin, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "kmax", &r->kmax, 0));
-    HX_TRY(hx_io_attr_string(io, G, "amplitudes", r->amplitudes == HX_AMP_FIXED ? "fixed" : "gaussian"));
+    HX_TRY(hx_io_attr_string(io, G, HX_ATTR_SHAPE, hx_shape_name(r->spectrum.shape)));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_SLOPE, &r->spectrum.slope, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_SLOPE_FIT, &res->slope_fit, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_SLOPE_SIGMA, &res->slope_sigma, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_KMIN, &r->spectrum.kmin, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_KMAX, &r->spectrum.kmax, 0));
+    HX_TRY(hx_io_attr_string(io, G, HX_ATTR_AMPLITUDES, r->amplitudes == HX_AMP_FIXED ? "fixed" : "gaussian"));
     int64_t flip = r->flip;
     HX_TRY(hx_io_attr_int64s(io, G, "flip", &flip, 0));
     HX_TRY(hx_io_attr_string(io, G, "precision", r->precision == HX_PREC_DOUBLE ? "double" : "single"));
+    HX_TRY(hx_io_attr_string(io, G, HX_ATTR_WEIGHT, r->weight == HX_WEIGHT_MASS ? "mass" : "volume"));
+    HX_TRY(hx_io_attr_string(io, G, "fraction_of", res->as_written ? "written" : "synthesis"));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_plan", &res->t_plan, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_draw", &res->t_draw, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_fft", &res->t_fft, 0));
@@ -95,8 +91,8 @@ static hx_status fill_diag(hx_diag *d, const hx_field_summary *sum, const hx_gri
     d->vort_rms = sqrt(fmax(sum->grad_rms * sum->grad_rms - sum->div_rms * sum->div_rms, 0.0));
     d->div_ratio = sum->grad_rms > 0 ? d->div_rms / sum->grad_rms : NAN;
     d->vort_ratio = sum->grad_rms > 0 ? d->vort_rms / sum->grad_rms : NAN;
-    d->fit_kmin = r->kmin;
-    d->fit_kmax = r->kmax;
+    d->fit_kmin = r->spectrum.kmin;
+    d->fit_kmax = r->spectrum.kmax;
     hx_diag_finish(d);
 fail:
     return st;
@@ -112,12 +108,12 @@ static hx_status expected_slope(const hx_field_summary *sum, const hx_recipe *r,
     hx_status st = HX_OK;
     double *relvar = NULL, al, be, err;
     HX_ALLOC(relvar, sum->nshell);
-    hx_mix_weights(r, &al, &be);
-    if (r->exact != HX_EXACT_NONE) al = 1.0, be = 1.0; /* pinned mixes keep each shell's unmixed draw */
+    hx_mix_weights(&r->mix, &al, &be);
+    if (r->mix.exact != HX_EXACT_NONE) al = 1.0, be = 1.0; /* pinned mixes keep each shell's unmixed draw */
     double kappa = (2 * al * al * al * al + be * be * be * be) / ((2 * al * al + be * be) * (2 * al * al + be * be));
     for (int s = 0; s < sum->nshell; s++)
         relvar[s] = sum->power[s] > 0 ? kappa * sum->power_sq[s] / (sum->power[s] * sum->power[s]) : 0.0;
-    hx_diag_fit_shells(sum->power, sum->modes, relvar, sum->nshell, r->kmin, r->kmax, slope, &err, sigma);
+    hx_diag_fit_shells(sum->power, sum->modes, relvar, sum->nshell, r->spectrum.kmin, r->spectrum.kmax, slope, &err, sigma);
 fail:
     free(relvar);
     return st;
@@ -127,7 +123,7 @@ fail:
 static hx_status write_diag(hx_io *io, const hx_diag *d)
 {
     hx_status st = HX_OK;
-    const char *G = "/helmix/diagnostics";
+    const char *G = HX_SCHEMA_DIAGNOSTICS;
     int ns = d->nshell;
     double *k = NULL, *share = NULL, fit[2] = {d->fit_kmin, d->fit_kmax}, edges[HX_DIAG_BINS + 1];
     HX_ALLOC(k, ns);
@@ -169,71 +165,459 @@ fail:
     return st;
 }
 
-hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm comm, hx_make_result *res_out)
+/* /helmix/state: the physical state, so inspect and a reader can judge it in physical units. */
+static hx_status write_state(hx_io *io, const hx_recipe *r, const hx_cloud *cl, const hx_make_result *res)
 {
     hx_status st = HX_OK;
-    hx_make_result res = {0};
+    const char *G = HX_SCHEMA_STATE;
+    const hx_code_units *u = &r->code;
+    double cs_cgs = u->sound_speed * u->velocity, nan = NAN;
+    HX_TRY(hx_io_attr_doubles(io, G, "unit_length_cm", &u->length, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "unit_velocity_cm_s", &u->velocity, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "unit_density_g_cm3", &u->density, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "unit_mass_g", &u->mass, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "G_code", &u->G, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "temperature_K", &r->temperature.value, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "mu", &r->mu, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "gamma", &r->gamma, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "sound_speed", &u->sound_speed, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "sound_speed_cm_s", &cs_cgs, 0));
+    HX_TRY(hx_io_attr_string(io, G, "amplitude_by", hx_amplitude_by_name(r->amplitude_by)));
+    /* asked: the rule's value; realized: measured on the field as written */
+    double asked[4] = {r->amplitude_by == HX_AMPLITUDE_VRMS ? r->vrms : NAN,
+                       r->amplitude_by == HX_AMPLITUDE_MACH ? r->mach : NAN,
+                       r->amplitude_by == HX_AMPLITUDE_VIRIAL ? r->virial : NAN,
+                       r->amplitude_by == HX_AMPLITUDE_LINEWIDTH ? hx_cloud_target_sigma(cl, r, res->region_mass) : NAN};
+    HX_TRY(hx_io_attr_doubles(io, G, "vrms_asked", &asked[0], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "mach_asked", &asked[1], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "virial_asked", &asked[2], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "sigma_3d_asked", &asked[3], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "vrms", &res->vrms_x, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "sigma_3d", &res->sigma_3d, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "mach", &res->mach, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "virial", &res->virial, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "momentum", res->momentum, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "angular_momentum", res->angular, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "momentum_relative", &res->momentum_rel, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "angular_momentum_relative", &res->angular_rel, 0));
+    int64_t flags[3] = {r->window, r->remove_bulk, r->remove_rotation};
+    HX_TRY(hx_io_attr_int64s(io, G, "window_bulk_rotation", flags, 3));
+    HX_TRY(hx_io_attr_string(io, G, "density_model", hx_density_model_name(r->density_model)));
+    if (r->density_model == HX_DENSITY_NONE) return HX_OK;
+    HX_TRY(hx_io_attr_doubles(io, G, "density_mean", &res->density_mean, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "sigma_s_asked", r->density_model == HX_DENSITY_LOGNORMAL ? &r->sigma_s : &nan, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "sigma_s", &res->sigma_s_written, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "b", &r->b, 0));
+    int64_t cloud = cl->has_cloud, clumps = r->clumps;
+    HX_TRY(hx_io_attr_int64s(io, G, "cloud", &cloud, 0));
+    HX_TRY(hx_io_attr_int64s(io, G, "clumps", &clumps, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "cloud_center", cl->center, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "cloud_radius", &cl->radius, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "cloud_edge", &cl->edge, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "region_mass", &res->region_mass, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "model_mass", &cl->mass_model, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "density_inside", &cl->rho_in, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "density_edge", &cl->rho_edge, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "density_ambient", &cl->rho_ambient, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "temperature_ambient_K", &cl->t_ambient, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "xi_max", &cl->xi_max, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "contrast", cl->has_cloud ? &r->contrast : &nan, 0));
+fail:
+    return st;
+}
+
+/* The field descriptors of a recipe: the velocity, and s = ln(rho/rho_0) of a lognormal or
+ * clumpy density. */
+static void velocity_desc(const hx_recipe *r, double rms, hx_desc *d)
+{
+    *d = (hx_desc){HX_FIELD_VELOCITY, 3, "code_length/code_time", r->spectrum, r->mix, rms, r->seed,
+                   HX_STREAM_VELOCITY, r->amplitudes, r->flip};
+}
+
+static void log_density_desc(const hx_recipe *r, hx_desc *d)
+{
+    *d = (hx_desc){"log_density", 1, "dimensionless", r->density_spectrum, {HX_MIX_FRACTION, NAN, 0.0, HX_EXACT_TOTAL},
+                   r->sigma_s, r->seed, HX_STREAM_DENSITY, HX_AMP_GAUSSIAN, 0};
+}
+
+/* Everything a run carries between its phases. */
+typedef struct run_t {
+    const hx_recipe *r;
+    const hx_log *log;
+    MPI_Comm comm;
     hx_grid g;
+    hx_cloud cloud;
+    hx_field *f;
+    hx_io *io;
+    int vel_id, rho_id;
+    double *rho;   /* this rank's density (nz * Ny * Nx), NULL without one */
+    hx_make_result res;
+} run_t;
+
+static inline double cell_distance(const run_t *R, ptrdiff_t z, ptrdiff_t y, ptrdiff_t x)
+{
+    const hx_grid *g = &R->g;
+    double p[3] = {((double)x + 0.5) * g->box[0] / (double)g->n[0], ((double)y + 0.5) * g->box[1] / (double)g->n[1],
+                   ((double)(g->z0 + z) + 0.5) * g->box[2] / (double)g->n[2]};
+    double d2 = 0;
+    for (int a = 0; a < 3; a++) d2 += (p[a] - R->cloud.center[a]) * (p[a] - R->cloud.center[a]);
+    return sqrt(d2);
+}
+
+/* The density: the model, times exp(s) for a lognormal or clumpy one, normalised so that a
+ * lognormal keeps its mean and a clumpy cloud its mass exactly. Written, and kept in R->rho. */
+static hx_status make_density(run_t *R)
+{
+    hx_status st = HX_OK;
+    const hx_recipe *r = R->r;
+    const hx_grid *g = &R->g;
     hx_spectrum *sp = NULL;
-    hx_field *f = NULL;
-    hx_io *io = NULL;
-    hx_diag diag;
-    memset(&diag, 0, sizeof diag);
-    double t0 = MPI_Wtime(), t;
+    hx_desc ds;
+    int64_t n = g->nz * g->n[1] * g->n[0];
+    double t = MPI_Wtime();
+    st = n ? ((R->rho = malloc((size_t)n * sizeof *R->rho)) ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for the density slab (%.1f MiB)", (double)n * 8 / 1048576.0)) : HX_OK;
+    HX_TRY(hx_error_agree(R->comm, st));
+    int lognormal = (r->density_model == HX_DENSITY_LOGNORMAL || r->clumps) && r->sigma_s > 0;
+    if (lognormal) {
+        const void *slab = NULL;
+        log_density_desc(r, &ds);
+        HX_TRY(hx_spectrum_create(&sp, &ds.spectrum, R->comm));
+        HX_TRY(hx_field_mix(R->f, &ds, sp));
+        HX_TRY(hx_field_component(R->f, 0, HX_PREC_DOUBLE, &slab, NULL));
+        memcpy(R->rho, slab, (size_t)n * sizeof *R->rho);
+    }
+    /* sums[0] = sum of the modulated part, sums[1] = sum of the part it replaces */
+    double sums[2] = {0, 0};
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++)
+            for (ptrdiff_t x = 0; x < g->n[0]; x++) {
+                ptrdiff_t i = (z * g->n[1] + y) * g->n[0] + x;
+                double e = lognormal ? exp(R->rho[i]) : 1.0, p = hx_cloud_profile(&R->cloud, cell_distance(R, z, y, x));
+                double part = R->cloud.has_cloud ? p - R->cloud.rho_ambient : p; /* clumps modulate the cloud only */
+                R->rho[i] = part * e;
+                sums[0] += part * e;
+                sums[1] += part;
+            }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, sums, 2, MPI_DOUBLE, MPI_SUM, R->comm));
+    double norm = sums[0] > 0 ? sums[1] / sums[0] : 1.0, base = R->cloud.has_cloud ? R->cloud.rho_ambient : 0.0;
+    double mom[3] = {0, 0, 0}; /* sum rho, sum ln rho, sum (ln rho)^2 */
+    for (int64_t i = 0; i < n; i++) {
+        R->rho[i] = base + R->rho[i] * norm;
+        double l = log(R->rho[i]);
+        mom[0] += R->rho[i], mom[1] += l, mom[2] += l * l;
+    }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, mom, 3, MPI_DOUBLE, MPI_SUM, R->comm));
+    double N = (double)hx_grid_cells(g), ml = mom[1] / N;
+    R->res.density_mean = mom[0] / N;
+    R->res.sigma_s_written = sqrt(fmax(mom[2] / N - ml * ml, 0.0));
+    HX_TRY(hx_io_write_doubles(R->io, R->rho_id, 0, R->rho));
+    hx_log_say(R->log, HX_LOG_INFO, "density: %s%s, mean %.6g, sigma of ln rho %.4g; %.2f s",
+               hx_density_model_name(r->density_model), r->clumps ? " with clumps" : "", R->res.density_mean,
+               R->res.sigma_s_written, MPI_Wtime() - t);
+fail:
+    hx_spectrum_destroy(&sp);
+    return st;
+}
 
-    HX_TRY(hx_io_check_target(r->file, force, comm));
-    HX_TRY(hx_grid_init(&g, r->cells, r->box, comm));
-    HX_TRY(hx_spectrum_create(&sp, r, comm));
-    hx_log_say(log, HX_LOG_INFO, "plan: %tdx%tdx%td cells on %d rank%s, %.1f MiB complex slab per rank", g.n[0], g.n[1],
-               g.n[2], g.size, g.size > 1 ? "s" : "", (double)g.alloc * 16.0 / 1048576.0);
-    t = MPI_Wtime();
-    HX_TRY(hx_field_create(&f, &g, FFTW_ESTIMATE, comm));
-    res.t_plan = MPI_Wtime() - t;
-    hx_log_say(log, HX_LOG_INFO, "plan: done in %.2f s", res.t_plan);
+/* The velocity needs real-space shaping when the cloud changes it (window, removal of bulk flow
+ * or rotation, mass weighting) or when its amplitude is a mass-weighted dispersion of a
+ * non-uniform density. Otherwise the k-space normalisation is exact and one pass suffices. */
+static int shaped(const hx_recipe *r)
+{
+    int uniform = r->density_model == HX_DENSITY_NONE || r->density_model == HX_DENSITY_UNIFORM;
+    return r->window || r->remove_bulk || r->remove_rotation || r->weight == HX_WEIGHT_MASS ||
+           (!uniform && r->amplitude_by != HX_AMPLITUDE_VRMS);
+}
 
-    t = MPI_Wtime();
-    HX_TRY(hx_field_mix(f, r, sp));
-    if (hx_field_summary_get(f))
-        hx_log_say(log, HX_LOG_INFO, "draw: k-space pass for the mix in %.2f s", MPI_Wtime() - t);
+/* The rms of the one-pass velocity: the asked dispersion is the volume rms of a zero-mean field
+ * in a uniform density. */
+static double one_pass_rms(const run_t *R)
+{
+    const hx_recipe *r = R->r;
+    double mass = R->cloud.mass_model;
+    if (r->amplitude_by == HX_AMPLITUDE_VIRIAL) mass = R->res.density_mean * R->g.box[0] * R->g.box[1] * R->g.box[2];
+    return hx_cloud_target_sigma(&R->cloud, r, mass);
+}
 
-    HX_TRY(hx_io_create(&io, r->file, &g, r->precision, comm));
-    double sum2 = 0;
+/* u' = W u (window) or u sqrt(<rho>/rho) (mass weighting), in place. */
+static void shape_component(const run_t *R, double *v)
+{
+    const hx_grid *g = &R->g;
+    int win = R->r->window, mass = R->r->weight == HX_WEIGHT_MASS;
+    if (!win && !mass) return;
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++)
+            for (ptrdiff_t x = 0; x < g->n[0]; x++) {
+                ptrdiff_t i = (z * g->n[1] + y) * g->n[0] + x;
+                if (win) v[i] *= hx_cloud_window(&R->cloud, cell_distance(R, z, y, x));
+                if (mass) v[i] *= sqrt(R->res.density_mean / R->rho[i]);
+            }
+}
+
+/* v = s (u' - vb - K Delta), in place. */
+static void correct_component(const run_t *R, const hx_flow *fl, int c, double s, const double vb[3],
+                              const double K[3][3], double *v)
+{
+    const hx_grid *g = &R->g;
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++)
+            for (ptrdiff_t x = 0; x < g->n[0]; x++) {
+                double p[3] = {((double)x + 0.5) * g->box[0] / (double)g->n[0],
+                               ((double)y + 0.5) * g->box[1] / (double)g->n[1],
+                               ((double)(g->z0 + z) + 0.5) * g->box[2] / (double)g->n[2]};
+                double k = 0;
+                for (int a = 0; a < 3; a++) k += K[c][a] * (p[a] - fl->origin[a]);
+                ptrdiff_t i = (z * g->n[1] + y) * g->n[0] + x;
+                v[i] = s * (v[i] - vb[c] - k);
+            }
+}
+
+/* Values of a slab in either precision, as doubles into tmp (or the slab itself). */
+static const double *as_doubles(const void *slab, hx_precision prec, int64_t n, double *tmp)
+{
+    if (prec == HX_PREC_DOUBLE) return slab;
+    for (int64_t i = 0; i < n; i++) tmp[i] = ((const float *)slab)[i];
+    return tmp;
+}
+
+/* The scale that gives the asked amplitude to the corrected field u' - vb - K Delta. */
+static hx_status solve_scale(run_t *R, const hx_flow *fl, const double vb[3], const double K[3][3], double *scale)
+{
+    const hx_recipe *r = R->r;
+    double s1[3], s2[3], have = 0, want;
+    if (r->amplitude_by == HX_AMPLITUDE_VRMS) {
+        hx_flow_corrected(&fl->volume, vb, K, s1, s2);
+        for (int c = 0; c < 3; c++) have += s2[c];
+        have = sqrt(have / fl->volume.w0);
+        want = r->vrms;
+    } else {
+        const hx_flow_w *w = &fl->region;
+        hx_flow_corrected(w, vb, K, s1, s2);
+        for (int c = 0; c < 3; c++) have += s2[c] / w->w0 - (s1[c] / w->w0) * (s1[c] / w->w0);
+        have = sqrt(fmax(have, 0.0));
+        want = hx_cloud_target_sigma(&R->cloud, r, w->w0 * fl->cell_volume);
+    }
+    if (!(have > 0) || !isfinite(want))
+        return hx_error_set(HX_ERR_ARG, "the velocity has no motion left inside the cloud to scale to the %s asked "
+                                        "(the window or the removal of bulk flow took it all)",
+                            hx_amplitude_by_name(r->amplitude_by));
+    *scale = want / have;
+    return HX_OK;
+}
+
+/* Measure what the written velocity holds in the density (real space, collective). */
+static hx_status measure_state(run_t *R, hx_flow *fl)
+{
+    hx_status st = HX_OK;
+    hx_flow_report rep;
+    HX_TRY(hx_flow_reduce(fl, R->comm));
+    hx_flow_summarize(fl, &rep);
+    hx_make_result *res = &R->res;
+    const hx_code_units *u = &R->r->code;
+    res->vrms_x = rep.vrms;
+    res->sigma_3d = rep.sigma_3d;
+    res->region_mass = R->rho ? rep.region_mass : NAN;
+    res->radius = R->cloud.radius;
+    res->mach = rep.sigma_3d / u->sound_speed;
+    res->virial = R->rho ? 5.0 * (rep.sigma_3d * rep.sigma_3d / 3.0) * R->cloud.radius / (u->G * rep.region_mass) : NAN;
+    double p = 0, l = 0;
+    for (int a = 0; a < 3; a++) {
+        res->momentum[a] = R->rho ? rep.momentum[a] : NAN;
+        res->angular[a] = R->rho ? rep.angular[a] : NAN;
+        p += rep.momentum[a] * rep.momentum[a];
+        l += rep.angular[a] * rep.angular[a];
+    }
+    res->momentum_rel = R->rho ? sqrt(p) / rep.momentum_scale : NAN;
+    res->angular_rel = R->rho ? sqrt(l) / rep.angular_scale : NAN;
+fail:
+    return st;
+}
+
+/* The velocity in one pass: k-space normalisation, moments and diagnostics from the synthesis. */
+static hx_status velocity_one_pass(run_t *R, hx_desc *dv, const hx_spectrum *sp, hx_diag *diag, hx_flow *fl)
+{
+    hx_status st = HX_OK;
+    const hx_recipe *r = R->r;
+    const hx_grid *g = &R->g;
+    int64_t n = g->nz * g->n[1] * g->n[0];
+    double *tmp = NULL, t = MPI_Wtime(), sum2 = 0;
+    velocity_desc(r, one_pass_rms(R), dv);
+    HX_TRY(hx_field_mix(R->f, dv, sp));
+    if (hx_field_summary_get(R->f))
+        hx_log_say(R->log, HX_LOG_INFO, "draw: k-space pass for the mix in %.2f s", MPI_Wtime() - t);
+    if (r->precision == HX_PREC_SINGLE) HX_TRY(hx_error_agree(R->comm, (tmp = malloc((size_t)(n ? n : 1) * sizeof *tmp)) ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for a conversion row")));
     for (int c = 0; c < 3; c++) {
         const void *slab = NULL;
         hx_moments mom;
         t = MPI_Wtime();
-        HX_TRY(hx_field_component(f, c, r->precision, &slab, &mom));
-        res.t_synth[c] = MPI_Wtime() - t;
+        HX_TRY(hx_field_component(R->f, c, r->precision, &slab, &mom));
+        R->res.t_synth[c] = MPI_Wtime() - t;
         t = MPI_Wtime();
-        HX_TRY(hx_io_write_component(io, c, slab));
-        res.t_write[c] = MPI_Wtime() - t;
-        hx_diag_set_moments(&diag, c, &mom);
-        sum2 += diag.rms[c] * diag.rms[c];
-        res.mean[c] = diag.mean[c];
-        hx_log_say(log, HX_LOG_INFO, "velocity_%c: synthesized in %.2f s, written in %.2f s", axis[c], res.t_synth[c],
-                   res.t_write[c]);
+        HX_TRY(hx_io_write_component(R->io, R->vel_id, c, slab));
+        R->res.t_write[c] = MPI_Wtime() - t;
+        hx_flow_add(fl, g, c, as_doubles(slab, r->precision, n, tmp), R->rho, &R->cloud);
+        hx_diag_set_moments(diag, c, &mom);
+        sum2 += diag->rms[c] * diag->rms[c];
+        R->res.mean[c] = diag->mean[c];
+        hx_log_say(R->log, HX_LOG_INFO, "velocity_%c: synthesized in %.2f s, written in %.2f s", "xyz"[c],
+                   R->res.t_synth[c], R->res.t_write[c]);
     }
-    res.vrms_x = sqrt(sum2);
-    const hx_field_summary *sum = hx_field_summary_get(f);
-    res.fraction = sum->fraction;
-    res.vrms_k = sum->vrms_k;
-    hx_field_timings(f, &res.t_draw, &res.t_fft);
-    /* local allocations only, but a failure must reach every rank before the next collective */
-    HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &g, r)));
-    HX_TRY(hx_error_agree(comm, expected_slope(sum, r, &res.slope_fit, &res.slope_sigma)));
-    HX_TRY(hx_make_peak_rss(comm, &res.peak_rss));
-    res.t_total = MPI_Wtime() - t0;
-    HX_TRY(write_provenance(io, r, &g, &res));
-    HX_TRY(write_diag(io, &diag));
-    HX_TRY(hx_io_close(&io, 1));
-    res.t_total = MPI_Wtime() - t0;
-    hx_log_say(log, HX_LOG_INFO, "wrote %s: rms %.6g (asked %.6g), compressive share %.6f; %.2f s, peak %.1f MiB per rank",
-               r->file, res.vrms_x, r->vrms, res.fraction, res.t_total, (double)res.peak_rss / 1048576.0);
-    if (res_out) *res_out = res;
+    HX_TRY(measure_state(R, fl));
+    R->res.vrms_x = sqrt(sum2); /* the moments of the values written, as before */
 fail:
-    if (io) hx_io_close(&io, 0);
-    hx_field_destroy(&f);
+    free(tmp);
+    return st;
+}
+
+/* The velocity shaped by the cloud: a measuring pass (window or mass weighting, then the sums
+ * that give the bulk velocity, the rotation and the dispersion), then the writing pass with the
+ * corrections and the scale applied. The draws are regenerated, so memory stays one slab. */
+static hx_status velocity_shaped(run_t *R, hx_desc *dv, const hx_spectrum *sp, hx_flow *fl)
+{
+    hx_status st = HX_OK;
+    const hx_recipe *r = R->r;
+    const hx_grid *g = &R->g;
+    double vb[3], K[3][3], scale = 1.0, t = MPI_Wtime();
+    velocity_desc(r, 1.0, dv);
+    HX_TRY(hx_field_mix(R->f, dv, sp));
+    hx_flow pass1 = *fl;
+    for (int c = 0; c < 3; c++) {
+        const void *slab = NULL;
+        HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
+        shape_component(R, (double *)slab);
+        hx_flow_add(&pass1, g, c, slab, R->rho, &R->cloud);
+    }
+    HX_TRY(hx_flow_reduce(&pass1, R->comm));
+    HX_TRY(hx_error_agree(R->comm, hx_flow_correction(&pass1, r->remove_bulk, r->remove_rotation, vb, K)));
+    HX_TRY(hx_error_agree(R->comm, solve_scale(R, &pass1, vb, K, &scale)));
+    hx_log_say(R->log, HX_LOG_INFO, "velocity: measuring pass in %.2f s (bulk %.3g %.3g %.3g before scaling)",
+               MPI_Wtime() - t, vb[0], vb[1], vb[2]);
+    for (int c = 0; c < 3; c++) {
+        const void *slab = NULL;
+        t = MPI_Wtime();
+        HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
+        double *v = (double *)slab;
+        shape_component(R, v);
+        correct_component(R, &pass1, c, scale, vb, K, v);
+        hx_flow_add(fl, g, c, v, R->rho, &R->cloud);
+        R->res.t_synth[c] = MPI_Wtime() - t;
+        t = MPI_Wtime();
+        HX_TRY(hx_io_write_doubles(R->io, R->vel_id, c, v));
+        R->res.t_write[c] = MPI_Wtime() - t;
+        hx_log_say(R->log, HX_LOG_INFO, "velocity_%c: synthesized in %.2f s, written in %.2f s", "xyz"[c],
+                   R->res.t_synth[c], R->res.t_write[c]);
+    }
+    HX_TRY(measure_state(R, fl));
+fail:
+    return st;
+}
+
+/* The summary of the field as written, measured by inspect's own analysis of the partial file
+ * (the window and the corrections mix modes, so the k-space sums no longer describe it). */
+static hx_status analyse_written(run_t *R, hx_diag *diag)
+{
+    hx_status st = HX_OK;
+    hx_inspect_opts o;
+    hx_request q;
+    int found = 0;
+    char dens[128];
+    hx_log quiet = *R->log;
+    memset(&o, 0, sizeof o);
+    quiet.verbosity = HX_LOG_QUIET;
+    hx_schema_dataset(dens, sizeof dens, HX_FIELD_DENSITY, 1, 0);
+    o.cube.file = hx_io_partial(R->io);
+    o.cube.density = R->r->weight == HX_WEIGHT_MASS ? dens : NULL;
+    o.fit[0] = R->r->spectrum.kmin;
+    o.fit[1] = R->r->spectrum.kmax;
+    HX_TRY(hx_io_pause(R->io));
+    hx_diag_clear(diag);
+    double t = MPI_Wtime();
+    st = hx_inspect_run(&o, &quiet, R->comm, diag, &q, &found);
+    hx_status st2 = hx_io_resume(R->io);
+    HX_TRY(st);
+    HX_TRY(st2);
+    hx_log_say(R->log, HX_LOG_INFO, "velocity as written: compressive share %.6f, analysed in %.2f s", diag->fraction,
+               MPI_Wtime() - t);
+fail:
+    return st;
+}
+
+hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm comm, hx_make_result *res_out)
+{
+    hx_status st = HX_OK;
+    run_t R;
+    memset(&R, 0, sizeof R);
+    R.r = r, R.log = log, R.comm = comm, R.vel_id = R.rho_id = -1;
+    hx_spectrum *sp = NULL;
+    hx_diag diag;
+    hx_desc dv;
+    hx_flow fl;
+    memset(&diag, 0, sizeof diag);
+    double t0 = MPI_Wtime(), t;
+
+    HX_TRY(hx_io_check_target(r->file, force, comm));
+    HX_TRY(hx_grid_init(&R.g, r->cells, r->box, comm));
+    HX_TRY(hx_error_agree(comm, hx_cloud_init(&R.cloud, r)));
+    HX_TRY(hx_spectrum_create(&sp, &r->spectrum, comm));
+    hx_log_say(log, HX_LOG_INFO, "plan: %tdx%tdx%td cells on %d rank%s, %.1f MiB complex slab per rank%s", R.g.n[0],
+               R.g.n[1], R.g.n[2], R.g.size, R.g.size > 1 ? "s" : "", (double)R.g.alloc * 16.0 / 1048576.0,
+               r->density_model != HX_DENSITY_NONE ? " plus one real slab for the density" : "");
+    t = MPI_Wtime();
+    HX_TRY(hx_field_create(&R.f, &R.g, FFTW_ESTIMATE, comm));
+    R.res.t_plan = MPI_Wtime() - t;
+    hx_log_say(log, HX_LOG_INFO, "plan: done in %.2f s", R.res.t_plan);
+
+    HX_TRY(hx_io_create(&R.io, r->file, &R.g, r->precision, comm));
+    HX_TRY(hx_io_units(R.io, r->code.length, r->code.mass, r->code.time));
+    HX_TRY(hx_io_add_field(R.io, HX_FIELD_VELOCITY, 3, "code_length/code_time", &R.vel_id));
+    if (r->density_model != HX_DENSITY_NONE) {
+        HX_TRY(hx_io_add_field(R.io, HX_FIELD_DENSITY, 1, "code_mass/code_length**3", &R.rho_id));
+        HX_TRY(make_density(&R));
+    }
+    HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, comm));
+    R.res.as_written = shaped(r);
+    if (R.res.as_written) HX_TRY(velocity_shaped(&R, &dv, sp, &fl));
+    else HX_TRY(velocity_one_pass(&R, &dv, sp, &diag, &fl));
+
+    const hx_field_summary *sum = hx_field_summary_get(R.f);
+    R.res.fraction = sum->fraction;
+    R.res.vrms_k = sum->vrms_k;
+    hx_field_timings(R.f, &R.res.t_draw, &R.res.t_fft);
+    /* local allocations only, but a failure must reach every rank before the next collective */
+    HX_TRY(hx_error_agree(comm, expected_slope(sum, r, &R.res.slope_fit, &R.res.slope_sigma)));
+    if (R.res.as_written) {
+        hx_field_destroy(&R.f); /* the analysis needs the memory */
+        free(R.rho);
+        R.rho = NULL;
+        HX_TRY(analyse_written(&R, &diag));
+        R.res.fraction = diag.fraction;
+        R.res.vrms_k = NAN;
+        for (int c = 0; c < 3; c++) R.res.mean[c] = diag.mean[c];
+    } else
+        HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &R.g, r)));
+    HX_TRY(hx_log_peak_rss(comm, &R.res.peak_rss));
+    R.res.t_total = MPI_Wtime() - t0;
+    HX_TRY(write_provenance(R.io, r, &R.g, &R.res));
+    HX_TRY(write_state(R.io, r, &R.cloud, &R.res));
+    HX_TRY(write_diag(R.io, &diag));
+    HX_TRY(hx_io_close(&R.io, 1));
+    R.res.t_total = MPI_Wtime() - t0;
+    if (r->amplitude_by == HX_AMPLITUDE_VRMS)
+        hx_log_say(log, HX_LOG_INFO, "wrote %s: rms %.6g (asked %.6g), compressive share %.6f; %.2f s, peak %.1f MiB per rank",
+                   r->file, R.res.vrms_x, r->vrms, R.res.fraction, R.res.t_total, (double)R.res.peak_rss / 1048576.0);
+    else
+        hx_log_say(log, HX_LOG_INFO,
+                   "wrote %s: sigma_3D %.6g code velocity, Mach %.6g, virial parameter %.6g (asked: %s), compressive "
+                   "share %.6f; %.2f s, peak %.1f MiB per rank",
+                   r->file, R.res.sigma_3d, R.res.mach, R.res.virial, hx_amplitude_by_name(r->amplitude_by),
+                   R.res.fraction, R.res.t_total, (double)R.res.peak_rss / 1048576.0);
+    if (res_out) *res_out = R.res;
+fail:
+    if (R.io) hx_io_close(&R.io, 0);
+    hx_field_destroy(&R.f);
     hx_spectrum_destroy(&sp);
+    hx_cloud_clear(&R.cloud);
+    free(R.rho);
     hx_diag_clear(&diag);
     return st;
 }

@@ -20,9 +20,9 @@ double hx_mix_realized_fraction(const double *sol, const double *comp, const dou
     return es + ec > 0 ? ec / (es + ec) : 0.0;
 }
 
-void hx_mix_weights(const hx_recipe *r, double *alpha, double *beta)
+void hx_mix_weights(const hx_mix_spec *r, double *alpha, double *beta)
 {
-    if (r->mix_mode == HX_MIX_FRACTION) {
+    if (r->mode == HX_MIX_FRACTION) {
         *alpha = sqrt(1.0 - r->compressive_fraction);
         *beta = sqrt(2.0 * r->compressive_fraction);
     } else {
@@ -31,9 +31,9 @@ void hx_mix_weights(const hx_recipe *r, double *alpha, double *beta)
     }
 }
 
-static double target_fraction(const hx_recipe *r)
+static double target_fraction(const hx_mix_spec *r)
 {
-    return r->mix_mode == HX_MIX_FRACTION ? r->compressive_fraction : hx_mix_expected_fraction(r->zeta);
+    return r->mode == HX_MIX_FRACTION ? r->compressive_fraction : hx_mix_expected_fraction(r->zeta);
 }
 
 /* Scale factors that give one shell (or the whole field) share f and energy t. */
@@ -52,9 +52,9 @@ static hx_status split(double f, double t, double sol, double comp, double *a, d
     return HX_OK;
 }
 
-hx_status hx_mix_solve(const hx_recipe *r, const double *sol, const double *comp, int nshell, double *a, double *b)
+hx_status hx_mix_solve(const hx_mix_spec *r, double vrms, const double *sol, const double *comp, int nshell, double *a, double *b)
 {
-    double v2 = r->vrms * r->vrms, ssum = 0, csum = 0;
+    double v2 = vrms * vrms, ssum = 0, csum = 0;
     for (int s = 0; s < nshell; s++) {
         ssum += sol[s];
         csum += comp[s];

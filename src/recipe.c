@@ -1,7 +1,10 @@
 /* recipe.c — the recipe: one table of keys drives parsing, --set overrides, validation, the
  * annotated template, the --help key list and a rendering that parses back to the same struct.
- * Until hx_recipe_validate, "not given" lives in the struct itself: cells 0, kmax < 0, zeta and
- * compressive_fraction NaN, exact EXACT_UNSET, table "". No state outlives a call. */
+ * Every key is typed (where it lives in hx_recipe, what kind of value it holds), so one parser
+ * and one printer serve all keys of a kind, and two sections can share a block of keys (the
+ * spectra of velocity and density). Until hx_recipe_validate, "not given" lives in the struct
+ * itself: cells 0, NaN reals and quantities, exact EXACT_UNSET, remove_bulk -1, table "".
+ * No state outlives a call. */
 #include "helmix/recipe.h"
 
 #include <ctype.h>
@@ -11,11 +14,13 @@
 #include <limits.h>
 #include <math.h>
 #include <stdarg.h>
+#include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
 #include <strings.h>
 
 #include "helmix/spectrum.h"
+#include "helmix/units.h"
 
 #define CELLS_MAX 1048576         /* 2^20 per axis keeps Nx Ny Nz inside int64 */
 #define EXACT_UNSET ((hx_exact)3) /* exact not given: validate picks it by mix mode */
@@ -25,19 +30,11 @@
 #define HINT_MAX 256
 #define VALUE_MAX (HX_PATH_MAX + 64)
 
-#define CELLS_RULE "must be one integer N or three integers \"Nx Ny Nz\", each even " \
-                   "(the real-to-complex FFT layout wants even N) and in [4, 1048576]"
-#define BOX_RULE "must be one number L or three numbers \"Lx Ly Lz\", each > 0"
 #define UNIT_RULE "must be a number > 0 in units of 2 pi / max(L)"
 #define SHARE_RULE "must be a number in [0, 1]"
 #define BOTH_RULE "give either zeta or compressive_fraction, not both"
 
 /* ---- reading values ---------------------------------------------------------------------- */
-
-static const char *const shape_names[] = {"power", "band", "table", NULL};
-static const char *const exact_names[] = {"none", "total", "shell", NULL};
-static const char *const amp_names[] = {"gaussian", "fixed", NULL};
-static const char *const prec_names[] = {"single", "double", NULL};
 
 /* The whole of s is one finite number. */
 static int read_real(const char *s, double *out)
@@ -120,354 +117,428 @@ static void format_real(char *buf, size_t n, double x)
     if (strtod(buf, NULL) != x) snprintf(buf, n, "%.17g", x);
 }
 
-/* ---- one parser and one printer per key ---------------------------------------------------- */
+/* ---- typed keys: one parser and one printer per kind of value ------------------------------ */
 
-/* Parsers store a value in r and return NULL, or return what is allowed. */
-typedef const char *(*parse_fn)(hx_recipe *r, const char *value);
-/* Printers write the current value as recipe text and return 1, or return 0 when not given. */
-typedef int (*show_fn)(const hx_recipe *r, char *buf, size_t n);
+/* What a key holds, and so how it is read and printed. A key's value lives at `off` in
+ * hx_recipe; reals, quantities and shares use NAN for "not given". */
+typedef enum {
+    K_CELLS,  /* int64_t[3], even, in [4, CELLS_MAX]                                  */
+    K_BOX,    /* double[3] > 0                                                         */
+    K_ENUM,   /* int, one of `names`                                                   */
+    K_REAL,   /* double within `range`                                                  */
+    K_QTY,    /* hx_quantity of kind `qty` within `range`                              */
+    K_BOOL,   /* int 0 / 1                                                             */
+    K_TRI,    /* int -1 (auto) / 0 / 1                                                 */
+    K_SEED,   /* uint64_t                                                             */
+    K_PATH,   /* char[HX_PATH_MAX]                                                    */
+    K_SHARE   /* double in [0, 1], exclusive with the share at `partner`                */
+} kind_t;
 
-static const char *parse_cells(hx_recipe *r, const char *v)
-{
-    int64_t c[3];
-    if (!read_ints3(v, c)) return CELLS_RULE;
-    for (int i = 0; i < 3; i++)
-        if (c[i] < 4 || c[i] > CELLS_MAX || c[i] % 2) return CELLS_RULE;
-    memcpy(r->cells, c, sizeof c);
-    return NULL;
-}
-
-static const char *parse_box(hx_recipe *r, const char *v)
-{
-    double b[3];
-    if (!read_reals3(v, b) || !(b[0] > 0 && b[1] > 0 && b[2] > 0)) return BOX_RULE;
-    memcpy(r->box, b, sizeof b);
-    return NULL;
-}
-
-static const char *parse_shape(hx_recipe *r, const char *v)
-{
-    int i = read_enum(v, shape_names);
-    if (i < 0) return "must be one of power, band, table";
-    r->shape = (hx_shape)i;
-    return NULL;
-}
-
-static const char *parse_slope(hx_recipe *r, const char *v)
-{
-    return read_real(v, &r->slope) ? NULL : "must be a finite number";
-}
-
-static const char *parse_kmin(hx_recipe *r, const char *v)
-{
-    double k;
-    if (!read_real(v, &k) || !(k > 0)) return UNIT_RULE ", at most kmax";
-    r->kmin = k;
-    return NULL;
-}
-
-static const char *parse_kmax(hx_recipe *r, const char *v)
-{
-    double k;
-    if (!read_real(v, &k) || !(k > 0))
-        return UNIT_RULE ", at least kmin and at most min over axes of (N_i/2 - 1) * max(L)/L_i";
-    r->kmax = k;
-    return NULL;
-}
-
-static const char *parse_table(hx_recipe *r, const char *v)
-{
-    if (!*v) return "must name a file of (k, E) rows";
-    if (strlen(v) >= sizeof r->table) return "path must be shorter than 4096 characters";
-    strcpy(r->table, v);
-    return NULL;
-}
-
-static const char *parse_share(double *dst, const double *other, const char *v, const char *both)
-{
-    double x;
-    if (!read_real(v, &x) || x < 0 || x > 1) return SHARE_RULE;
-    if (!isnan(*other)) return both;
-    *dst = x;
-    return NULL;
-}
-
-static const char *parse_zeta(hx_recipe *r, const char *v)
-{
-    const char *why = parse_share(&r->zeta, &r->compressive_fraction, v,
-                                  BOTH_RULE " (compressive_fraction is already given)");
-    if (!why) r->mix_mode = HX_MIX_ZETA;
-    return why;
-}
-
-static const char *parse_fraction(hx_recipe *r, const char *v)
-{
-    const char *why = parse_share(&r->compressive_fraction, &r->zeta, v, BOTH_RULE " (zeta is already given)");
-    if (!why) r->mix_mode = HX_MIX_FRACTION;
-    return why;
-}
-
-static const char *parse_exact(hx_recipe *r, const char *v)
-{
-    int i = read_enum(v, exact_names);
-    if (i < 0) return "must be one of none, total, shell";
-    r->exact = (hx_exact)i;
-    return NULL;
-}
-
-static const char *parse_vrms(hx_recipe *r, const char *v)
-{
-    double x;
-    if (!read_real(v, &x) || !(x > 0)) return "must be a number > 0";
-    r->vrms = x;
-    return NULL;
-}
-
-/* Decimal digits only: strtoull would quietly wrap "-1" to 2^64 - 1. */
-static const char *parse_seed(hx_recipe *r, const char *v)
-{
-    static const char *rule = "must be a whole number in [0, 18446744073709551615]";
-    if (!*v || strspn(v, "0123456789") != strlen(v)) return rule;
-    errno = 0;
-    unsigned long long s = strtoull(v, NULL, 10);
-    if (errno == ERANGE) return rule;
-    r->seed = (uint64_t)s;
-    return NULL;
-}
-
-static const char *parse_amplitudes(hx_recipe *r, const char *v)
-{
-    int i = read_enum(v, amp_names);
-    if (i < 0) return "must be one of gaussian, fixed";
-    r->amplitudes = (hx_amplitudes)i;
-    return NULL;
-}
-
-static const char *parse_flip(hx_recipe *r, const char *v)
-{
-    int b = read_bool(v);
-    if (b < 0) return "must be true or false (also yes/no, 1/0)";
-    r->flip = b;
-    return NULL;
-}
-
-/* The output file is relative to the current directory: results land where helmix runs. */
-static const char *parse_file(hx_recipe *r, const char *v)
-{
-    if (!*v) return "must name the output file";
-    if (strlen(v) >= sizeof r->file) return "path must be shorter than 4096 characters";
-    strcpy(r->file, v);
-    return NULL;
-}
-
-static const char *parse_precision(hx_recipe *r, const char *v)
-{
-    int i = read_enum(v, prec_names);
-    if (i < 0) return "must be one of single, double";
-    r->precision = (hx_precision)i;
-    return NULL;
-}
-
-static int show_cells(const hx_recipe *r, char *buf, size_t n)
-{
-    const int64_t *c = r->cells;
-    if (c[0] <= 0 || c[1] <= 0 || c[2] <= 0) return 0;
-    if (c[0] == c[1] && c[1] == c[2]) snprintf(buf, n, "%" PRId64, c[0]);
-    else snprintf(buf, n, "%" PRId64 " %" PRId64 " %" PRId64, c[0], c[1], c[2]);
-    return 1;
-}
-
-static int show_box(const hx_recipe *r, char *buf, size_t n)
-{
-    char b[3][32];
-    for (int i = 0; i < 3; i++) format_real(b[i], sizeof b[i], r->box[i]);
-    if (r->box[0] == r->box[1] && r->box[1] == r->box[2]) snprintf(buf, n, "%s", b[0]);
-    else snprintf(buf, n, "%s %s %s", b[0], b[1], b[2]);
-    return 1;
-}
-
-static int show_name(const char *const *names, int count, int i, char *buf, size_t n)
-{
-    snprintf(buf, n, "%s", i >= 0 && i < count ? names[i] : "unknown");
-    return 1;
-}
-
-static int show_shape(const hx_recipe *r, char *buf, size_t n)
-{
-    return show_name(shape_names, 3, (int)r->shape, buf, n);
-}
-
-static int show_slope(const hx_recipe *r, char *buf, size_t n)
-{
-    format_real(buf, n, r->slope);
-    return 1;
-}
-
-static int show_kmin(const hx_recipe *r, char *buf, size_t n)
-{
-    format_real(buf, n, r->kmin);
-    return 1;
-}
-
-static int show_kmax(const hx_recipe *r, char *buf, size_t n)
-{
-    if (r->kmax < 0) return 0;
-    format_real(buf, n, r->kmax);
-    return 1;
-}
-
-static int show_table(const hx_recipe *r, char *buf, size_t n)
-{
-    if (!r->table[0]) return 0;
-    snprintf(buf, n, "%s", r->table);
-    return 1;
-}
-
-static int show_zeta(const hx_recipe *r, char *buf, size_t n)
-{
-    if (isnan(r->zeta)) return 0;
-    format_real(buf, n, r->zeta);
-    return 1;
-}
-
-static int show_fraction(const hx_recipe *r, char *buf, size_t n)
-{
-    if (isnan(r->compressive_fraction)) return 0;
-    format_real(buf, n, r->compressive_fraction);
-    return 1;
-}
-
-static int show_exact(const hx_recipe *r, char *buf, size_t n)
-{
-    if (r->exact == EXACT_UNSET) return 0;
-    return show_name(exact_names, 3, (int)r->exact, buf, n);
-}
-
-static int show_vrms(const hx_recipe *r, char *buf, size_t n)
-{
-    format_real(buf, n, r->vrms);
-    return 1;
-}
-
-static int show_seed(const hx_recipe *r, char *buf, size_t n)
-{
-    snprintf(buf, n, "%" PRIu64, r->seed);
-    return 1;
-}
-
-static int show_amplitudes(const hx_recipe *r, char *buf, size_t n)
-{
-    return show_name(amp_names, 2, (int)r->amplitudes, buf, n);
-}
-
-static int show_flip(const hx_recipe *r, char *buf, size_t n)
-{
-    snprintf(buf, n, "%s", r->flip ? "true" : "false");
-    return 1;
-}
-
-static int show_file(const hx_recipe *r, char *buf, size_t n)
-{
-    snprintf(buf, n, "%s", r->file);
-    return 1;
-}
-
-static int show_precision(const hx_recipe *r, char *buf, size_t n)
-{
-    return show_name(prec_names, 2, (int)r->precision, buf, n);
-}
-
-/* ---- the table of keys --------------------------------------------------------------------- */
+typedef enum { R_ANY = 0, R_POS, R_NONNEG, R_SHARE, R_GT1, R_GE1 } range_t;
 
 typedef struct key {
     const char *section, *name;
-    const char *type;    /* allowed values, as a user writes them */
+    kind_t kind;
+    size_t off;
+    const char *const *names; /* K_ENUM spellings, NULL-terminated                      */
+    int qty;                  /* K_QTY: an hx_qty                                       */
+    range_t range;            /* K_REAL, K_QTY                                          */
+    const char *type;    /* allowed values, as a user writes them ("must be " + type) */
     const char *def;     /* default as recipe text (hx_recipe_defaults parses it); NULL: derived */
     const char *note;    /* the default in words when def is NULL */
     const char *example; /* value on the template line when def is NULL */
     const char *unit;    /* NULL: dimensionless or not a quantity */
     const char *help;    /* first line: summary for --help; further lines: details */
-    parse_fn parse;
-    show_fn show;
-    int required; /* no default: the template gives a sample value instead of a comment */
-    int relative; /* a relative path is taken from the recipe's directory */
+    int required;        /* no default: the template gives a sample value instead of a comment */
+    int relative;        /* a relative path is taken from the recipe's directory */
+    size_t partner;      /* K_SHARE: offset of the share it excludes */
 } key;
+
+static const char *const shape_names[] = {"power", "band", "table", NULL};
+static const char *const exact_names[] = {"none", "total", "shell", NULL};
+static const char *const amp_names[] = {"gaussian", "fixed", NULL};
+static const char *const prec_names[] = {"single", "double", NULL};
+static const char *const model_names[] = {"none", "uniform", "sphere", "bonnor-ebert", "lognormal", NULL};
+static const char *const weight_names[] = {"volume", "mass", NULL};
+static const char *const by_names[] = {"vrms", "mach", "virial", "linewidth", NULL};
+
+static int in_range(double x, range_t r)
+{
+    switch (r) {
+    case R_ANY: return isfinite(x);
+    case R_POS: return isfinite(x) && x > 0;
+    case R_NONNEG: return isfinite(x) && x >= 0;
+    case R_SHARE: return x >= 0 && x <= 1;
+    case R_GT1: return isfinite(x) && x > 1;
+    case R_GE1: return isfinite(x) && x >= 1;
+    }
+    return 0;
+}
+
+static int count_names(const char *const *names)
+{
+    int n = 0;
+    while (names[n]) n++;
+    return n;
+}
+
+/* Why a value is refused: "must be " followed by the key's allowed values. */
+static const char *rule_of(const key *k)
+{
+    static _Thread_local char buf[400];
+    snprintf(buf, sizeof buf, "must be %s", k->type);
+    return buf;
+}
+
+/* Store value v of key k in r; NULL or what is allowed. */
+static const char *parse_value(const key *k, hx_recipe *r, const char *v)
+{
+    void *dst = (char *)r + k->off;
+    switch (k->kind) {
+    case K_CELLS: {
+        int64_t c[3];
+        if (!read_ints3(v, c)) return rule_of(k);
+        for (int i = 0; i < 3; i++)
+            if (c[i] < 4 || c[i] > CELLS_MAX || c[i] % 2) return rule_of(k);
+        memcpy(dst, c, sizeof c);
+        return NULL;
+    }
+    case K_BOX: {
+        double b[3];
+        if (!read_reals3(v, b) || !(b[0] > 0 && b[1] > 0 && b[2] > 0)) return rule_of(k);
+        memcpy(dst, b, sizeof b);
+        return NULL;
+    }
+    case K_ENUM: {
+        int i = read_enum(v, k->names);
+        if (i < 0) return rule_of(k);
+        *(int *)dst = i;
+        return NULL;
+    }
+    case K_REAL: {
+        double x;
+        if (!read_real(v, &x) || !in_range(x, k->range)) return rule_of(k);
+        *(double *)dst = x;
+        return NULL;
+    }
+    case K_QTY: {
+        hx_quantity q = {NAN, 0, ""};
+        if (strlen(v) >= sizeof q.text) return "must be a number with an optional unit, at most 47 characters";
+        const char *why = hx_units_quantity(v, (hx_qty)k->qty, &q.value, &q.unit);
+        if (why) return why;
+        if (!in_range(q.value, k->range)) return rule_of(k);
+        hx_quantity *out = dst; /* member by member: the struct's padding stays as defaults zeroed it */
+        out->value = q.value;
+        out->unit = q.unit;
+        memset(out->text, 0, sizeof out->text);
+        snprintf(out->text, sizeof out->text, "%s", v);
+        return NULL;
+    }
+    case K_BOOL:
+    case K_TRI: {
+        int b = read_bool(v);
+        if (b < 0 && k->kind == K_TRI && !strcasecmp(v, "auto")) b = -1;
+        else if (b < 0) return rule_of(k);
+        *(int *)dst = b;
+        return NULL;
+    }
+    case K_SEED: { /* decimal digits only: strtoull would quietly wrap "-1" to 2^64 - 1 */
+        if (!*v || strspn(v, "0123456789") != strlen(v)) return rule_of(k);
+        errno = 0;
+        unsigned long long s = strtoull(v, NULL, 10);
+        if (errno == ERANGE) return rule_of(k);
+        *(uint64_t *)dst = (uint64_t)s;
+        return NULL;
+    }
+    case K_PATH:
+        if (!*v) return rule_of(k);
+        if (strlen(v) >= HX_PATH_MAX) return "path must be shorter than 4096 characters";
+        strcpy((char *)dst, v);
+        return NULL;
+    case K_SHARE: {
+        double x;
+        const double *other = (const double *)((const char *)r + k->partner);
+        if (!read_real(v, &x) || !in_range(x, R_SHARE)) return rule_of(k);
+        if (!isnan(*other)) return !strcmp(k->name, "zeta") ? BOTH_RULE " (compressive_fraction is already given)"
+                                                             : BOTH_RULE " (zeta is already given)";
+        *(double *)dst = x;
+        return NULL;
+    }
+    }
+    return "unknown kind of key";
+}
+
+/* Write the value of key k as recipe text; 0 when not given. */
+static int show_value(const key *k, const hx_recipe *r, char *buf, size_t n)
+{
+    const void *src = (const char *)r + k->off;
+    switch (k->kind) {
+    case K_CELLS: {
+        const int64_t *c = src;
+        if (c[0] <= 0 || c[1] <= 0 || c[2] <= 0) return 0;
+        if (c[0] == c[1] && c[1] == c[2]) snprintf(buf, n, "%" PRId64, c[0]);
+        else snprintf(buf, n, "%" PRId64 " %" PRId64 " %" PRId64, c[0], c[1], c[2]);
+        return 1;
+    }
+    case K_BOX: {
+        const double *x = src;
+        char b[3][32];
+        for (int i = 0; i < 3; i++) format_real(b[i], sizeof b[i], x[i]);
+        if (x[0] == x[1] && x[1] == x[2]) snprintf(buf, n, "%s", b[0]);
+        else snprintf(buf, n, "%s %s %s", b[0], b[1], b[2]);
+        return 1;
+    }
+    case K_ENUM: {
+        int i = *(const int *)src;
+        if (i < 0 || i >= count_names(k->names)) return 0; /* unset */
+        snprintf(buf, n, "%s", k->names[i]);
+        return 1;
+    }
+    case K_REAL:
+    case K_SHARE:
+        if (isnan(*(const double *)src)) return 0;
+        format_real(buf, n, *(const double *)src);
+        return 1;
+    case K_QTY: {
+        const hx_quantity *q = src;
+        if (isnan(q->value)) return 0;
+        if (q->text[0]) snprintf(buf, n, "%s", q->text);
+        else format_real(buf, n, q->value);
+        return 1;
+    }
+    case K_BOOL:
+    case K_TRI: {
+        int b = *(const int *)src;
+        snprintf(buf, n, "%s", b < 0 ? "auto" : b ? "true" : "false");
+        return 1;
+    }
+    case K_SEED:
+        snprintf(buf, n, "%" PRIu64, *(const uint64_t *)src);
+        return 1;
+    case K_PATH:
+        if (!*(const char *)src) return 0;
+        snprintf(buf, n, "%s", (const char *)src);
+        return 1;
+    }
+    return 0;
+}
+
+/* ---- the table of keys --------------------------------------------------------------------- */
 
 #define FEDERRATH "(Federrath et al. 2010, A&A 512, A81)"
 #define KUNIT "2 pi / max(L)"
+#define AT(field) offsetof(hx_recipe, field)
+#define REAL(sec, nm, field, rg, type) sec, nm, K_REAL, AT(field), NULL, 0, rg, type
+#define QTY(sec, nm, field, q, rg, type) sec, nm, K_QTY, AT(field), NULL, q, rg, type
+#define ENUM(sec, nm, field, names, type) sec, nm, K_ENUM, AT(field), names, 0, R_ANY, type
+#define OTHER(sec, nm, kind, field, type) sec, nm, kind, AT(field), NULL, 0, R_ANY, type
+
+/* The spectrum keys, the same for every section that describes a spectrum. */
+#define SPECTRUM_KEYS(sec, spec, what, kmin_def)                                                              \
+    {ENUM(sec, "shape", spec.shape, shape_names, "one of power, band, table"), "power", NULL, NULL, NULL,      \
+     "form of the shell-integrated spectrum E(k) of " what ", zero outside [kmin, kmax]\n"                   \
+     "power: E ~ k^-slope; band: E ~ (k - kmin)(kmax - k), a smooth hump vanishing at both ends;\n"          \
+     "table: E from the (k, E) rows of the table key, interpolated linearly in log k - log E.",             \
+     0, 0, 0},                                                                                                \
+    {REAL(sec, "slope", spec.slope, R_ANY, "a finite number"), "2", NULL, NULL, NULL,                        \
+     "power-law index for shape = power: E(k) ~ k^-slope, E shell-integrated\n"                              \
+     "5/3 is the Kolmogorov spectrum, 2 the Burgers (shock-dominated) one.",                                \
+     0, 0, 0},                                                                                                \
+    {REAL(sec, "kmin", spec.kmin, R_POS, "a number > 0 in units of 2 pi / max(L), at most kmax"), kmin_def,   \
+     NULL, NULL, KUNIT, "smallest wavenumber that carries power", 0, 0, 0},                                   \
+    {REAL(sec, "kmax", spec.kmax, R_POS,                                                                     \
+          "a number > 0 in units of 2 pi / max(L), at least kmin and at most min over axes of "                \
+          "(N_i/2 - 1) * max(L)/L_i"),                                                                         \
+     NULL, "the limit min over axes of (N_i/2 - 1) * max(L)/L_i", "31", KUNIT,                                 \
+     "largest wavenumber that carries power\n"                                                               \
+     "Its default and upper limit, min over axes of (N_i/2 - 1) * max(L)/L_i, is the largest\n"             \
+     "wavenumber below Nyquist on every axis (31 for cells = 64 in a cube); the default follows the grid.", \
+     0, 0, 0},                                                                                                \
+    {OTHER(sec, "table", K_PATH, spec.table, "a file of (k, E) rows"), NULL, "none", "spectrum.dat", NULL,   \
+     "file of (k, E) rows for shape = table\n"                                                               \
+     "Two numbers per line separated by blanks, '#' starts a comment; at least two rows,\n"                 \
+     "k > 0 strictly increasing (units of 2 pi / max(L)), E >= 0. A relative path is taken\n"               \
+     "from the directory of the recipe file (from the current directory for --set).",                      \
+     0, 1, 0}
 
 static const key keys[] = {
-    {"grid", "cells", "integer N or \"Nx Ny Nz\", each even, in [4, 1048576]", NULL,
-     "none: must be given", "64", "cells",
+    {OTHER("grid", "cells", K_CELLS, cells, "one integer N or three integers \"Nx Ny Nz\", each even "
+                                            "(the real-to-complex FFT layout wants even N) and in [4, 1048576]"),
+     NULL, "none: must be given", "64", "cells",
      "grid cells per axis; one integer N means N N N\n"
      "Even N because the real-to-complex FFT layout wants it.",
-     parse_cells, show_cells, 1, 0},
-    {"grid", "box", "number L or \"Lx Ly Lz\", each > 0", "1", NULL, NULL, "code length",
-     "box edge lengths; one number L means a cube L L L\n"
+     1, 0, 0},
+    {OTHER("grid", "box", K_BOX, box, "one number L or three numbers \"Lx Ly Lz\", each > 0"), "1", NULL, NULL,
+     "code length",
+     "box edge lengths in code length units ([units] length); one number L means a cube L L L\n"
      "Wavenumbers k are counted in units of 2 pi / max(Lx, Ly, Lz).",
-     parse_box, show_box, 0, 0},
-    {"spectrum", "shape", "power | band | table", "power", NULL, NULL, NULL,
-     "form of the shell-integrated kinetic energy spectrum E(k), zero outside [kmin, kmax]\n"
-     "power: E ~ k^-slope; band: E ~ (k - kmin)(kmax - k), a smooth hump vanishing at both ends;\n"
-     "table: E from the (k, E) rows of [spectrum] table, interpolated linearly in log k - log E.",
-     parse_shape, show_shape, 0, 0},
-    {"spectrum", "slope", "finite number", "2", NULL, NULL, NULL,
-     "power-law index for shape = power: E(k) ~ k^-slope, E shell-integrated\n"
-     "5/3 is the Kolmogorov spectrum, 2 the Burgers (shock-dominated) one.",
-     parse_slope, show_slope, 0, 0},
-    {"spectrum", "kmin", "number > 0, at most kmax", "1", NULL, NULL, KUNIT,
-     "smallest wavenumber that carries energy", parse_kmin, show_kmin, 0, 0},
-    {"spectrum", "kmax", "number > 0, in [kmin, the limit]", NULL,
-     "the limit min over axes of (N_i/2 - 1) * max(L)/L_i", "31", KUNIT,
-     "largest wavenumber that carries energy\n"
-     "Its default and upper limit, min over axes of (N_i/2 - 1) * max(L)/L_i, is the largest\n"
-     "wavenumber below Nyquist on every axis (31 for cells = 64 in a cube).",
-     parse_kmax, show_kmax, 0, 0},
-    {"spectrum", "table", "file name", NULL, "none", "spectrum.dat", NULL,
-     "file of (k, E) rows for shape = table\n"
-     "Two numbers per line separated by blanks, '#' starts a comment; at least two rows,\n"
-     "k > 0 strictly increasing (units of 2 pi / max(L)), E >= 0. A relative path is taken\n"
-     "from the directory of the recipe file (from the current directory for --set).",
-     parse_table, show_table, 0, 1},
-    {"mix", "zeta", "number in [0, 1]", NULL, "0.5 unless compressive_fraction is given", "0.5", NULL,
+     0, 0, 0},
+
+    {QTY("units", "length", unit_length, HX_QTY_LENGTH, R_POS, "a length > 0, e.g. 1 pc (a bare number is in cm)"),
+     "1 cm", NULL, NULL, "cm when bare",
+     "the code length unit: box, radii and edges without a unit are in it\n"
+     "Units: pc, kpc, au, Rsun, km, m, cm. yt reads it from the file and converts.",
+     0, 0, 0},
+    {QTY("units", "velocity", unit_velocity, HX_QTY_VELOCITY, R_POS,
+         "a velocity > 0, e.g. 1 km/s (a bare number is in cm/s)"),
+     "1 cm/s", NULL, NULL, "cm/s when bare",
+     "the code velocity unit: the velocity datasets and vrms are in it; code time = length / velocity", 0, 0, 0},
+    {QTY("units", "density", unit_density, HX_QTY_DENSITY, R_POS,
+         "a density > 0, e.g. 1e-22 g/cm^3 or 1 Msun/pc^3 (a bare number is in g/cm^3)"),
+     NULL, "1 g/cm^3 unless mass is given", "1e-22 g/cm^3", "g/cm^3 when bare",
+     "the code density unit: the density dataset is in it; give density or mass, not both", 0, 0, 0},
+    {QTY("units", "mass", unit_mass, HX_QTY_MASS, R_POS, "a mass > 0, e.g. 1 Msun (a bare number is in g)"),
+     NULL, "none (density is used)", "1 Msun", "g when bare",
+     "the code mass unit instead of density: code density = mass / length^3", 0, 0, 0},
+
+    SPECTRUM_KEYS("spectrum", spectrum, "the kinetic energy", "1"),
+
+    {OTHER("mix", "zeta", K_SHARE, mix.zeta, "a number in [0, 1]"), NULL, "0.5 unless compressive_fraction is given",
+     "0.5", NULL,
      "Helmholtz projection weight: each mode keeps zeta of its solenoidal part, 1 - zeta of its compressive part\n"
      "1 is purely solenoidal, 0 purely compressive, 0.5 the natural 2:1 mixture. The expected compressive\n"
      "share of the energy is (1-zeta)^2/(1-2 zeta+3 zeta^2) " FEDERRATH ".\n"
      "Give zeta or compressive_fraction, not both.",
-     parse_zeta, show_zeta, 0, 0},
-    {"mix", "compressive_fraction", "number in [0, 1]", NULL, "none (zeta is used)", "0.3", NULL,
+     0, 0, AT(mix.compressive_fraction)},
+    {OTHER("mix", "compressive_fraction", K_SHARE, mix.compressive_fraction, "a number in [0, 1]"), NULL,
+     "none (zeta is used)", "0.3", NULL,
      "compressive (curl-free) share of the kinetic energy, asked for directly instead of zeta\n"
-     "Give compressive_fraction or zeta, not both. With it, exact defaults to total; exact = none draws freely with that expected share.",
-     parse_fraction, show_fraction, 0, 0},
-    {"mix", "exact", "none | total | shell", NULL, "none with zeta, total with compressive_fraction", "none",
-     NULL,
+     "Give compressive_fraction or zeta, not both. With it, exact defaults to total; exact = none draws freely "
+     "with that expected share.",
+     0, 0, AT(mix.zeta)},
+    {ENUM("mix", "exact", mix.exact, exact_names, "one of none, total, shell"), NULL,
+     "none with zeta, total with compressive_fraction", "none", NULL,
      "how strictly the realized compressive share is held\n"
      "none: the draw alone decides, the share scatters around its expectation (with\n"
      "compressive_fraction, the parts are weighted so that the expected share is the fraction);\n"
      "total: the whole field holds the share exactly; shell: every wavenumber shell holds it.\n"
      "With zeta: none (default) draws freely; total/shell pin the realized compressive share to the\n"
      "expected (1-zeta)^2/(1-2 zeta+3 zeta^2) " FEDERRATH ".",
-     parse_exact, show_exact, 0, 0},
-    {"amplitude", "vrms", "number > 0", "1", NULL, NULL, "code velocity",
-     "rms of the 3D velocity, sqrt(<vx^2 + vy^2 + vz^2>), that the field is scaled to",
-     parse_vrms, show_vrms, 0, 0},
-    {"random", "seed", "whole number in [0, 18446744073709551615]", "1", NULL, NULL, NULL,
+     0, 0, 0},
+    {ENUM("mix", "weight", weight, weight_names, "one of volume, mass"), "volume", NULL, NULL, NULL,
+     "which field holds the share: volume = v itself; mass = sqrt(rho) v (needs [density])\n"
+     "With mass the velocity is the synthesized field divided by sqrt(rho / <rho>), so sqrt(rho) v holds\n"
+     "the share exactly (mass-weighted decomposition, common practice for compressible turbulence).",
+     0, 0, 0},
+
+    {REAL("amplitude", "vrms", vrms, R_POS, "a number > 0"), NULL, "1 unless mach, virial or linewidth is given",
+     "1.0", "code velocity",
+     "3D rms velocity, sqrt(<vx^2 + vy^2 + vz^2>), volume-weighted over the box\n"
+     "Give exactly one of vrms, mach, virial, linewidth.",
+     0, 0, 0},
+    {REAL("amplitude", "mach", mach, R_POS, "a number > 0"), NULL, "none", "5", NULL,
+     "3D rms Mach number sigma_3D / c_s, c_s from [gas]\n"
+     "sigma_3D is the mass-weighted 3D velocity dispersion over the cloud (the whole box without a\n"
+     "cloud), after the bulk velocity is removed.",
+     0, 0, 0},
+    {REAL("amplitude", "virial", virial, R_POS, "a number > 0"), NULL, "none", "1", NULL,
+     "virial parameter alpha_vir = 5 sigma_1D^2 R / (G M) (Bertoldi & McKee 1992, ApJ 395, 140)\n"
+     "sigma_1D = sigma_3D / sqrt(3), mass-weighted over the cloud; R and M are the cloud's radius and\n"
+     "mass. Without a cloud: R = max(L)/2 and M the mass in the box (common practice for periodic boxes).",
+     0, 0, 0},
+    {OTHER("amplitude", "linewidth", K_BOOL, linewidth, "true or false (also yes/no, 1/0)"), "false", NULL, NULL,
+     NULL,
+     "set sigma_3D by a linewidth-size relation sigma_3D = linewidth_sigma (L / 1 pc)^linewidth_index\n"
+     "L is the largest size: the cloud's diameter, else the largest box side. The defaults are\n"
+     "Larson's relation for the 3D dispersion, 1.10 km/s (L/pc)^0.38 (Larson 1981, MNRAS 194, 809).",
+     0, 0, 0},
+    {QTY("amplitude", "linewidth_sigma", linewidth_sigma, HX_QTY_VELOCITY, R_POS, "a velocity > 0"), "1.10 km/s",
+     NULL, NULL, "code velocity when bare", "3D velocity dispersion at L = 1 pc of the linewidth-size relation", 0,
+     0, 0},
+    {REAL("amplitude", "linewidth_index", linewidth_index, R_ANY, "a finite number"), "0.38", NULL, NULL, NULL,
+     "exponent of the linewidth-size relation", 0, 0, 0},
+
+    {OTHER("velocity", "window", K_BOOL, window, "true or false (also yes/no, 1/0)"), "false", NULL, NULL, NULL,
+     "confine the turbulence to the cloud: v is multiplied by the cloud's smooth window\n"
+     "The window is 1 inside the cloud radius and falls to 0 over [density] edge; it mixes modes, so the\n"
+     "compressive share recorded and checked is that of the field as written, measured after windowing.",
+     0, 0, 0},
+    {OTHER("velocity", "remove_bulk", K_TRI, remove_bulk, "auto, true or false"), "auto", NULL, NULL, NULL,
+     "subtract the mass-weighted mean velocity so the net momentum is zero\n"
+     "auto: on when the density is not uniform (a uniform density has zero net momentum already).",
+     0, 0, 0},
+    {OTHER("velocity", "remove_rotation", K_BOOL, remove_rotation, "true or false (also yes/no, 1/0)"), "false",
+     NULL, NULL, NULL,
+     "subtract the rigid rotation that carries the net angular momentum about the centre of mass", 0, 0, 0},
+
+    {QTY("gas", "temperature", temperature, HX_QTY_TEMPERATURE, R_POS, "a temperature > 0 (K)"), "10 K", NULL,
+     NULL, "K", "gas temperature of the cloud (the ambient medium of a cloud is hotter, in pressure equilibrium)",
+     0, 0, 0},
+    {REAL("gas", "mu", mu, R_POS, "a number > 0"), "2.37", NULL, NULL, "m_H",
+     "mean molecular weight per free particle, in units of the hydrogen atom mass\n"
+     "2.37 for molecular gas with cosmic abundances (Kauffmann et al. 2008, A&A 487, 993, appendix A).",
+     0, 0, 0},
+    {REAL("gas", "gamma", gamma, R_GE1, "a number >= 1"), "1", NULL, NULL, NULL,
+     "adiabatic index of c_s = sqrt(gamma k_B T / (mu m_H)); 1 is isothermal", 0, 0, 0},
+
+    {ENUM("density", "model", density_model, model_names, "one of none, uniform, sphere, bonnor-ebert, lognormal"),
+     "none", NULL, NULL, NULL,
+     "the density written beside the velocity\n"
+     "none: no density dataset; uniform: mean everywhere; sphere: a uniform cloud of radius R in a\n"
+     "thinner ambient medium in pressure equilibrium; bonnor-ebert: an isothermal sphere from the\n"
+     "Lane-Emden equation (Ebert 1955; Bonnor 1956); lognormal: rho = mean exp(s) / <exp(s)> with s a\n"
+     "Gaussian random field of its own spectrum ([density_spectrum]) and random stream.",
+     0, 0, 0},
+    {QTY("density", "mean", density_mean, HX_QTY_DENSITY, R_POS, "a density > 0"), NULL,
+     "1 code density (uniform, lognormal); for sphere, the cloud density unless mass is given", "1e-21 g/cm^3",
+     "code density when bare", "volume-mean density (uniform, lognormal), or the cloud's density (sphere)", 0, 0, 0},
+    {QTY("density", "radius", cloud_radius, HX_QTY_LENGTH, R_POS, "a length > 0"), NULL,
+     "none: a sphere needs it; a Bonnor-Ebert sphere gets it from xi_max", "2 pc", "code length when bare",
+     "cloud radius of a sphere (centred in the box)", 0, 0, 0},
+    {QTY("density", "mass", cloud_mass, HX_QTY_MASS, R_POS, "a mass > 0"), NULL, "none", "1000 Msun",
+     "code mass when bare",
+     "cloud mass: sets the sphere's density or the Bonnor-Ebert central density instead of giving them", 0, 0,
+     0},
+    {QTY("density", "central_density", central_density, HX_QTY_DENSITY, R_POS, "a density > 0"), NULL,
+     "none: a Bonnor-Ebert sphere needs it or mass", "1e-19 g/cm^3", "code density when bare",
+     "central density of a Bonnor-Ebert sphere", 0, 0, 0},
+    {REAL("density", "xi_max", xi_max, R_POS, "a number > 0"), NULL, "the critical value 6.451", "6.451", NULL,
+     "dimensionless outer radius of a Bonnor-Ebert sphere, r = xi c_s / sqrt(4 pi G rho_c)\n"
+     "Above the critical 6.451 (Ebert 1955, Z. Astrophys. 37, 217; Bonnor 1956, MNRAS 116, 351) the\n"
+     "pressure-bounded sphere is unstable.",
+     0, 0, 0},
+    {REAL("density", "contrast", contrast, R_GT1, "a number > 1"), "100", NULL, NULL, NULL,
+     "cloud (edge) density over ambient density; the ambient gas is that much hotter, in pressure equilibrium",
+     0, 0, 0},
+    {QTY("density", "edge", edge, HX_QTY_LENGTH, R_NONNEG, "a length >= 0"), "0", NULL, NULL,
+     "code length when bare",
+     "width of the smooth cloud edge: the cloud fades as (1 - tanh((r - R)/edge)) / 2; 0 is a sharp edge", 0, 0,
+     0},
+    {REAL("density", "sigma_s", sigma_s, R_NONNEG, "a number >= 0"), NULL, "from b and the Mach number", "1.5",
+     NULL,
+     "width of s = ln(rho/rho_0) of the lognormal (and of the clumps)\n"
+     "Default: sigma_s^2 = ln(1 + b^2 M^2) (Federrath, Klessen & Schmidt 2008, ApJ 688, L79) with M the\n"
+     "3D rms Mach number asked for in [amplitude] (mach, or vrms / c_s).",
+     0, 0, 0},
+    {REAL("density", "b", b, R_POS, "a number > 0"), NULL, "from the mix: b = 1 - (2/3) zeta", "0.4", NULL,
+     "forcing parameter of sigma_s^2 = ln(1 + b^2 M^2)\n"
+     "Default b = 1 + (1/D - 1) zeta with D = 3 " FEDERRATH ": 1/3 for purely solenoidal, 1 for\n"
+     "purely compressive motions; with compressive_fraction, zeta is the one whose expected share it is.",
+     0, 0, 0},
+    {OTHER("density", "clumps", K_BOOL, clumps, "true or false (also yes/no, 1/0)"), "false", NULL, NULL, NULL,
+     "modulate a sphere or Bonnor-Ebert cloud by a lognormal field of width sigma_s (a clumpy cloud)\n"
+     "The cloud keeps its mass exactly; the ambient medium is not modulated.",
+     0, 0, 0},
+
+    SPECTRUM_KEYS("density_spectrum", density_spectrum, "s = ln(rho / rho_0)", "1"),
+
+    {OTHER("random", "seed", K_SEED, seed, "a whole number in [0, 18446744073709551615]"), "1", NULL, NULL, NULL,
      "seed of the random draws\n"
-     "The same recipe and seed give the same field, whatever the number of ranks.",
-     parse_seed, show_seed, 0, 0},
-    {"random", "amplitudes", "gaussian | fixed", "gaussian", NULL, NULL, NULL,
+     "The same recipe and seed give the same field, whatever the number of ranks. Each field (velocity,\n"
+     "density) has its own random stream, so changing one never changes the other.",
+     0, 0, 0},
+    {ENUM("random", "amplitudes", amplitudes, amp_names, "one of gaussian, fixed"), "gaussian", NULL, NULL, NULL,
      "how mode amplitudes are drawn\n"
      "gaussian: each mode's complex amplitude is a Gaussian draw (a Gaussian random field);\n"
      "fixed: every mode has exactly the spectrum's amplitude and only its phase is random.",
-     parse_amplitudes, show_amplitudes, 0, 0},
-    {"random", "flip", "true | false (also yes/no, 1/0)", "false", NULL, NULL, NULL,
-     "negate every draw: the field becomes -v of the unflipped field with the same seed",
-     parse_flip, show_flip, 0, 0},
-    {"output", "file", "path", "helmix.h5", NULL, NULL, NULL,
-     "output HDF5 file; a relative path is taken from the current directory", parse_file, show_file, 0, 0},
-    {"output", "precision", "single | double", "single", NULL, NULL, NULL,
-     "floating-point precision of the velocity written to the file (the field is computed in double)",
-     parse_precision, show_precision, 0, 0},
+     0, 0, 0},
+    {OTHER("random", "flip", K_BOOL, flip, "true or false (also yes/no, 1/0)"), "false", NULL, NULL, NULL,
+     "negate every draw: the field becomes -v of the unflipped field with the same seed", 0, 0, 0},
+
+    {OTHER("output", "file", K_PATH, file, "the name of the output file"), "helmix.h5", NULL, NULL, NULL,
+     "output HDF5 file; a relative path is taken from the current directory", 0, 0, 0},
+    {ENUM("output", "precision", precision, prec_names, "one of single, double"), "single", NULL, NULL, NULL,
+     "floating-point precision of the datasets written to the file (the fields are computed in double)", 0, 0, 0},
 };
 #define NKEYS ((int)(sizeof keys / sizeof keys[0]))
 _Static_assert(sizeof keys / sizeof keys[0] <= HX_RECIPE_MAX_KEYS, "hx_recipe.line has room for every key");
@@ -499,7 +570,7 @@ static const char *apply(const key *k, hx_recipe *r, const char *v, const char *
         if (n < 0 || (size_t)n >= sizeof path) return "path must be shorter than 4096 characters";
         v = path;
     }
-    return k->parse(r, v);
+    return parse_value(k, r, v);
 }
 
 /* ---- suggestions for misspelt names -------------------------------------------------------- */
@@ -584,13 +655,17 @@ static void section_hint(char *buf, size_t n, const char *section)
 void hx_recipe_defaults(hx_recipe *r)
 {
     memset(r, 0, sizeof *r);
+    /* "not given" first, then the defaults the table spells out */
+    for (int i = 0; i < NKEYS; i++) {
+        void *dst = (char *)r + keys[i].off;
+        if (keys[i].kind == K_REAL || keys[i].kind == K_SHARE) *(double *)dst = NAN;
+        if (keys[i].kind == K_QTY) ((hx_quantity *)dst)->value = NAN;
+    }
     for (int i = 0; i < NKEYS; i++)
-        if (keys[i].def) keys[i].parse(r, keys[i].def);
-    r->kmax = -1.0;
-    r->mix_mode = HX_MIX_ZETA;
-    r->zeta = NAN;
-    r->compressive_fraction = NAN;
-    r->exact = EXACT_UNSET;
+        if (keys[i].def) parse_value(&keys[i], r, keys[i].def);
+    r->mix.mode = HX_MIX_ZETA;
+    r->mix.exact = EXACT_UNSET;
+    r->remove_bulk = -1;
 }
 
 /* inih hands us one line per reader call, so the count of reader calls is the line number
@@ -759,6 +834,7 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
                             find_section(sec), hint);
     }
     hx_recipe work = *r;
+    if (k->kind == K_SHARE) *(double *)((char *)&work + k->partner) = NAN; /* --set replaces the other share */
     const char *why = apply(k, &work, value, NULL);
     if (why) return hx_error_set(HX_ERR_ARG, "--set %.*s: %s", SHOW_MAX, a, why);
     work.line[k - keys] = 0;
@@ -768,25 +844,23 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
 
 /* ---- validation ---------------------------------------------------------------------------- */
 
-static hx_status invalid(const hx_recipe *r, const char *name, const char *fmt, ...)
-    __attribute__((format(printf, 3, 4)));
+static hx_status invalid(const hx_recipe *r, const char *section, const char *name, const char *fmt, ...)
+    __attribute__((format(printf, 4, 5)));
 
 /* "line N: [section] key = current value: why", the line where the recipe text set the key
  * (left out when the value is a default or came from --set). */
-static hx_status invalid(const hx_recipe *r, const char *name, const char *fmt, ...)
+static hx_status invalid(const hx_recipe *r, const char *section, const char *name, const char *fmt, ...)
 {
-    const key *k = NULL;
-    for (int i = 0; i < NKEYS && !k; i++)
-        if (!strcmp(keys[i].name, name)) k = &keys[i];
+    const key *k = find_key(section, name);
     char value[VALUE_MAX] = "(not given)", why[700];
-    if (k && !k->show(r, value, sizeof value)) strcpy(value, "(not given)");
+    if (k && !show_value(k, r, value, sizeof value)) strcpy(value, "(not given)");
     va_list ap;
     va_start(ap, fmt);
     vsnprintf(why, sizeof why, fmt, ap);
     va_end(ap);
     char where[32] = "";
     if (k && r->line[k - keys] > 0) snprintf(where, sizeof where, "line %d: ", r->line[k - keys]);
-    return hx_error_set(HX_ERR_ARG, "%s[%s] %s = %.*s: %s", where, k ? k->section : "?", name, SHOW_MAX, value, why);
+    return hx_error_set(HX_ERR_ARG, "%s[%s] %s = %.*s: %s", where, section, name, SHOW_MAX, value, why);
 }
 
 double hx_recipe_kmax_limit(const hx_recipe *r)
@@ -802,9 +876,9 @@ static hx_status check_grid(const hx_recipe *r)
     if (c[0] == 0 && c[1] == 0 && c[2] == 0)
         return hx_error_set(HX_ERR_ARG, "[grid] cells is not given: it has no default; set it, e.g. cells = 256");
     for (int i = 0; i < 3; i++)
-        if (c[i] < 4 || c[i] > CELLS_MAX || c[i] % 2) return invalid(r, "cells", CELLS_RULE);
+        if (c[i] < 4 || c[i] > CELLS_MAX || c[i] % 2) return invalid(r, "grid", "cells", "%s", rule_of(find_key("grid", "cells")));
     for (int i = 0; i < 3; i++)
-        if (!(r->box[i] > 0) || !isfinite(r->box[i])) return invalid(r, "box", BOX_RULE);
+        if (!(r->box[i] > 0) || !isfinite(r->box[i])) return invalid(r, "grid", "box", "%s", rule_of(find_key("grid", "box")));
     return HX_OK;
 }
 
@@ -829,76 +903,184 @@ static char *read_file(const char *path)
 }
 
 /* A table is valid when the spectrum module can read it: one definition of a valid table. */
-static hx_status check_table(const hx_recipe *r)
+static hx_status check_table(const hx_recipe *r, const char *section, const hx_spectrum_spec *sp)
 {
-    if (!r->table[0]) return invalid(r, "table", "shape = table needs a file of (k, E) rows");
-    char *text = read_file(r->table);
-    if (!text) return invalid(r, "table", "cannot read the file: %s", strerror(errno));
+    if (!sp->table[0]) return invalid(r, section, "table", "shape = table needs a file of (k, E) rows");
+    char *text = read_file(sp->table);
+    if (!text) return invalid(r, section, "table", "cannot read the file: %s", strerror(errno));
     double *k = NULL, *e = NULL;
     int n = 0;
-    hx_status st = hx_spectrum_parse_table(text, r->table, &k, &e, &n);
+    hx_status st = hx_spectrum_parse_table(text, sp->table, &k, &e, &n);
     free(text);
     free(k);
     free(e);
     if (st != HX_OK) {
         char inner[800];
         snprintf(inner, sizeof inner, "%s", hx_error_message());
-        return hx_error_set(st, "[spectrum] table: %s", inner);
+        return hx_error_set(st, "[%s] table: %s", section, inner);
     }
     return HX_OK;
 }
 
-static hx_status check_spectrum(hx_recipe *r)
+static hx_status check_spectrum(hx_recipe *r, const char *section, hx_spectrum_spec *sp)
 {
     char lim[32];
     double limit = hx_recipe_kmax_limit(r);
-    int defaulted = r->kmax < 0;
+    int defaulted = isnan(sp->kmax);
     format_real(lim, sizeof lim, limit);
-    if (r->shape != HX_SHAPE_POWER && r->shape != HX_SHAPE_BAND && r->shape != HX_SHAPE_TABLE)
-        return invalid(r, "shape", "must be one of power, band, table");
-    if (!isfinite(r->slope)) return invalid(r, "slope", "must be a finite number");
-    if (!(r->kmin > 0) || !isfinite(r->kmin)) return invalid(r, "kmin", UNIT_RULE ", at most kmax");
-    if (defaulted) r->kmax = limit;
-    if (!(r->kmax <= limit * (1 + 1e-12)))
-        return invalid(r, "kmax",
+    if (sp->shape != HX_SHAPE_POWER && sp->shape != HX_SHAPE_BAND && sp->shape != HX_SHAPE_TABLE)
+        return invalid(r, section, "shape", "must be one of power, band, table");
+    if (!isfinite(sp->slope)) return invalid(r, section, "slope", "must be a finite number");
+    if (!(sp->kmin > 0) || !isfinite(sp->kmin)) return invalid(r, section, "kmin", UNIT_RULE ", at most kmax");
+    if (defaulted) sp->kmax = limit;
+    if (!(sp->kmax <= limit * (1 + 1e-12)))
+        return invalid(r, section, "kmax",
                        "must be at most %s, the largest wavenumber below Nyquist on every axis, "
                        "min over axes of (N_i/2 - 1) * max(L)/L_i for cells %" PRId64 " %" PRId64 " %" PRId64
-                       " and box %g %g %g",
+                       " and box %g %g %g (leave kmax out to follow the grid)",
                        lim, r->cells[0], r->cells[1], r->cells[2], r->box[0], r->box[1], r->box[2]);
-    if (r->kmin > r->kmax) {
+    if (sp->kmin > sp->kmax) {
         char km[32];
-        format_real(km, sizeof km, r->kmax);
-        return invalid(r, "kmin", "must be at most kmax = %s%s", km,
+        format_real(km, sizeof km, sp->kmax);
+        return invalid(r, section, "kmin", "must be at most kmax = %s%s", km,
                        defaulted ? " (the default: the largest wavenumber below Nyquist)" : "");
     }
-    return r->shape == HX_SHAPE_TABLE ? check_table(r) : HX_OK;
+    return sp->shape == HX_SHAPE_TABLE ? check_table(r, section, sp) : HX_OK;
 }
 
 static hx_status check_mix(hx_recipe *r)
 {
-    int has_zeta = !isnan(r->zeta), has_fraction = !isnan(r->compressive_fraction);
+    hx_mix_spec *m = &r->mix;
+    int has_zeta = !isnan(m->zeta), has_fraction = !isnan(m->compressive_fraction);
     if (has_zeta && has_fraction)
         return hx_error_set(HX_ERR_ARG, "[mix] zeta and compressive_fraction are both given: " BOTH_RULE);
-    if (!has_zeta && !has_fraction) r->zeta = ZETA_DEFAULT;
-    r->mix_mode = has_fraction ? HX_MIX_FRACTION : HX_MIX_ZETA;
-    if (!has_fraction && !(r->zeta >= 0 && r->zeta <= 1)) return invalid(r, "zeta", SHARE_RULE);
-    if (has_fraction && !(r->compressive_fraction >= 0 && r->compressive_fraction <= 1))
-        return invalid(r, "compressive_fraction", SHARE_RULE);
-    if (r->exact == EXACT_UNSET) r->exact = has_fraction ? HX_EXACT_TOTAL : HX_EXACT_NONE;
-    if (r->exact != HX_EXACT_NONE && r->exact != HX_EXACT_TOTAL && r->exact != HX_EXACT_SHELL)
-        return invalid(r, "exact", "must be one of none, total, shell");
+    if (!has_zeta && !has_fraction) m->zeta = ZETA_DEFAULT;
+    m->mode = has_fraction ? HX_MIX_FRACTION : HX_MIX_ZETA;
+    if (!has_fraction && !(m->zeta >= 0 && m->zeta <= 1)) return invalid(r, "mix", "zeta", SHARE_RULE);
+    if (has_fraction && !(m->compressive_fraction >= 0 && m->compressive_fraction <= 1))
+        return invalid(r, "mix", "compressive_fraction", SHARE_RULE);
+    if (m->exact == EXACT_UNSET) m->exact = has_fraction ? HX_EXACT_TOTAL : HX_EXACT_NONE;
+    if (m->exact != HX_EXACT_NONE && m->exact != HX_EXACT_TOTAL && m->exact != HX_EXACT_SHELL)
+        return invalid(r, "mix", "exact", "must be one of none, total, shell");
+    return HX_OK;
+}
+
+/* Code units from [units], then every quantity given with a unit converted to code units. */
+static hx_status check_units(hx_recipe *r)
+{
+    hx_code_units *u = &r->code;
+    if (!isnan(r->unit_density.value) && !isnan(r->unit_mass.value))
+        return invalid(r, "units", "mass", "give [units] density or mass, not both");
+    u->length = r->unit_length.value;
+    u->velocity = r->unit_velocity.value;
+    u->density = !isnan(r->unit_mass.value)      ? r->unit_mass.value / (u->length * u->length * u->length)
+                 : !isnan(r->unit_density.value) ? r->unit_density.value
+                                                 : 1.0;
+    u->mass = u->density * u->length * u->length * u->length;
+    u->time = u->length / u->velocity;
+    u->G = HX_CGS_G * u->density * u->length * u->length / (u->velocity * u->velocity);
+    if (!(isfinite(u->density) && u->density > 0 && isfinite(u->mass) && u->mass > 0 && isfinite(u->G) && u->G > 0))
+        return invalid(r, "units", "length", "the code units overflow double precision: choose units nearer the problem");
+    for (int i = 0; i < NKEYS; i++) {
+        const key *k = &keys[i];
+        if (k->kind != K_QTY || !strcmp(k->section, "units")) continue;
+        hx_quantity *q = (hx_quantity *)((char *)r + k->off);
+        if (isnan(q->value) || !q->unit) continue;
+        double per = k->qty == HX_QTY_LENGTH     ? u->length
+                     : k->qty == HX_QTY_VELOCITY ? u->velocity
+                     : k->qty == HX_QTY_DENSITY  ? u->density
+                     : k->qty == HX_QTY_MASS     ? u->mass
+                     : k->qty == HX_QTY_TIME     ? u->time
+                                                 : 1.0; /* temperature stays in K */
+        q->value /= per;
+        q->unit = 0;
+        if (!isfinite(q->value)) return invalid(r, k->section, k->name, "out of range in code units");
+    }
+    u->sound_speed = hx_units_sound_speed(r->temperature.value, r->mu, r->gamma) / u->velocity;
+    return HX_OK;
+}
+
+static const char *const amplitude_keys[] = {"vrms", "mach", "virial", "linewidth"};
+
+static hx_status check_amplitude(hx_recipe *r)
+{
+    int given[4] = {!isnan(r->vrms), !isnan(r->mach), !isnan(r->virial), r->linewidth != 0}, n = 0, first = -1;
+    for (int i = 0; i < 4; i++)
+        if (given[i]) {
+            if (n == 1)
+                return invalid(r, "amplitude", amplitude_keys[i],
+                               "give exactly one of vrms, mach, virial, linewidth (%s is given as well)",
+                               amplitude_keys[first]);
+            first = i, n++;
+        }
+    r->amplitude_by = n ? (hx_amplitude_by)first : HX_AMPLITUDE_VRMS;
+    if (!n) r->vrms = 1.0;
+    if (r->amplitude_by == HX_AMPLITUDE_VIRIAL && r->density_model == HX_DENSITY_NONE)
+        return invalid(r, "amplitude", "virial", "the virial parameter needs a mass: set [density] model");
+    return HX_OK;
+}
+
+/* zeta whose expected compressive share is f: (1-zeta)/zeta = sqrt(2 f / (1 - f)), the inverse
+ * of f = (1-zeta)^2 / ((1-zeta)^2 + 2 zeta^2) (Federrath et al. 2010, A&A 512, A81). */
+static double zeta_of_share(double f) { return sqrt(1.0 - f) / (sqrt(1.0 - f) + sqrt(2.0 * f)); }
+
+static hx_status check_density(hx_recipe *r)
+{
+    hx_density_model m = r->density_model;
+    int cloud = hx_recipe_has_cloud(r);
+    if ((int)m < 0 || (int)m > HX_DENSITY_LOGNORMAL) return invalid(r, "density", "model", "unknown model");
+    if ((m == HX_DENSITY_UNIFORM || m == HX_DENSITY_LOGNORMAL) && isnan(r->density_mean.value))
+        r->density_mean.value = 1.0;
+    if (m == HX_DENSITY_SPHERE) {
+        if (isnan(r->cloud_radius.value)) return invalid(r, "density", "radius", "a sphere needs its radius");
+        if (isnan(r->density_mean.value) == isnan(r->cloud_mass.value))
+            return invalid(r, "density", "mass", "a sphere needs exactly one of mean (its density) and mass");
+    }
+    if (m == HX_DENSITY_BONNOR_EBERT) {
+        if (isnan(r->central_density.value) == isnan(r->cloud_mass.value))
+            return invalid(r, "density", "central_density",
+                           "a Bonnor-Ebert sphere needs exactly one of central_density and mass");
+        if (!isnan(r->cloud_radius.value))
+            return invalid(r, "density", "radius", "a Bonnor-Ebert sphere's radius follows from xi_max, "
+                                                   "c_s and the central density: leave radius out");
+        if (!isnan(r->xi_max) && r->xi_max > 1e4) return invalid(r, "density", "xi_max", "must be at most 1e4");
+    }
+    if (r->clumps && !cloud) return invalid(r, "density", "clumps", "clumps modulate a sphere or a Bonnor-Ebert cloud");
+    if (m == HX_DENSITY_LOGNORMAL || r->clumps) {
+        if (isnan(r->b)) r->b = 1.0 - (2.0 / 3.0) * (r->mix.mode == HX_MIX_ZETA ? r->mix.zeta
+                                                                             : zeta_of_share(r->mix.compressive_fraction));
+        if (isnan(r->sigma_s)) {
+            double mach = r->amplitude_by == HX_AMPLITUDE_MACH ? r->mach
+                          : r->amplitude_by == HX_AMPLITUDE_VRMS ? r->vrms / r->code.sound_speed
+                                                                  : NAN;
+            if (isnan(mach))
+                return invalid(r, "density", "sigma_s",
+                               "give sigma_s: it follows from the Mach number only when [amplitude] gives mach or vrms");
+            r->sigma_s = sqrt(log(1.0 + r->b * r->b * mach * mach));
+        }
+    }
+    if (r->window && !cloud) return invalid(r, "velocity", "window", "the window confines the turbulence to a cloud: "
+                                                                     "set [density] model = sphere or bonnor-ebert");
+    if (r->weight == HX_WEIGHT_MASS) {
+        if (m == HX_DENSITY_NONE) return invalid(r, "mix", "weight", "mass weighting needs a density: set [density] model");
+        if (r->window || r->remove_bulk == 1 || r->remove_rotation)
+            return invalid(r, "mix", "weight", "weight = mass keeps the share of sqrt(rho) v exact; the window and the "
+                                               "removal of bulk flow or rotation would change it: turn them off");
+        r->remove_bulk = 0;
+    }
+    if (r->remove_bulk < 0) r->remove_bulk = m != HX_DENSITY_NONE && m != HX_DENSITY_UNIFORM;
     return HX_OK;
 }
 
 static hx_status check_rest(const hx_recipe *r)
 {
-    if (!(r->vrms > 0) || !isfinite(r->vrms)) return invalid(r, "vrms", "must be a number > 0");
     if (r->amplitudes != HX_AMP_GAUSSIAN && r->amplitudes != HX_AMP_FIXED)
-        return invalid(r, "amplitudes", "must be one of gaussian, fixed");
-    if (r->flip != 0 && r->flip != 1) return invalid(r, "flip", "must be true or false");
-    if (!memchr(r->file, '\0', sizeof r->file) || !r->file[0]) return invalid(r, "file", "must name the output file");
+        return invalid(r, "random", "amplitudes", "must be one of gaussian, fixed");
+    if (r->flip != 0 && r->flip != 1) return invalid(r, "random", "flip", "must be true or false");
+    if (!memchr(r->file, '\0', sizeof r->file) || !r->file[0])
+        return invalid(r, "output", "file", "must name the output file");
     if (r->precision != HX_PREC_SINGLE && r->precision != HX_PREC_DOUBLE)
-        return invalid(r, "precision", "must be one of single, double");
+        return invalid(r, "output", "precision", "must be one of single, double");
     return HX_OK;
 }
 
@@ -906,11 +1088,21 @@ hx_status hx_recipe_validate(hx_recipe *r)
 {
     hx_recipe work = *r; /* r changes only on success */
     hx_status st = check_grid(&work);
-    if (st == HX_OK) st = check_spectrum(&work);
+    if (st == HX_OK) st = check_units(&work);
+    if (st == HX_OK) st = check_spectrum(&work, "spectrum", &work.spectrum);
+    if (st == HX_OK && (work.density_model == HX_DENSITY_LOGNORMAL || work.clumps))
+        st = check_spectrum(&work, "density_spectrum", &work.density_spectrum);
     if (st == HX_OK) st = check_mix(&work);
+    if (st == HX_OK) st = check_amplitude(&work);
+    if (st == HX_OK) st = check_density(&work);
     if (st == HX_OK) st = check_rest(&work);
     if (st == HX_OK) *r = work;
     return st;
+}
+
+int hx_recipe_has_cloud(const hx_recipe *r)
+{
+    return r->density_model == HX_DENSITY_SPHERE || r->density_model == HX_DENSITY_BONNOR_EBERT;
 }
 
 /* ---- rendering, template, key list ---------------------------------------------------------- */
@@ -932,7 +1124,7 @@ char *hx_recipe_render(const hx_recipe *r)
     for (int i = 0; i < NKEYS; i++) {
         char value[VALUE_MAX];
         section_break(out, i);
-        if (keys[i].show(r, value, sizeof value)) fprintf(out, "%s = %s\n", keys[i].name, value);
+        if (show_value(&keys[i], r, value, sizeof value)) fprintf(out, "%s = %s\n", keys[i].name, value);
         else fprintf(out, "# %s: not given (default: %s)\n", keys[i].name, default_words(&keys[i]));
     }
     int bad = ferror(out);
@@ -985,12 +1177,12 @@ void hx_recipe_print_keys(FILE *out)
     }
 }
 
-const char *hx_shape_name(hx_shape s)
+static const char *name_of(const char *const *names, int i)
 {
-    return (int)s >= 0 && (int)s < 3 ? shape_names[s] : "unknown";
+    return i >= 0 && i < count_names(names) ? names[i] : "unknown";
 }
 
-const char *hx_exact_name(hx_exact e)
-{
-    return (int)e >= 0 && (int)e < 3 ? exact_names[e] : "unknown";
-}
+const char *hx_shape_name(hx_shape s) { return name_of(shape_names, (int)s); }
+const char *hx_exact_name(hx_exact e) { return name_of(exact_names, (int)e); }
+const char *hx_density_model_name(hx_density_model m) { return name_of(model_names, (int)m); }
+const char *hx_amplitude_by_name(hx_amplitude_by a) { return name_of(by_names, (int)a); }

@@ -5,12 +5,15 @@
 
 #include <Random123/philox.h>
 
-/* Second key word: separates helmix's streams from any other use of the same seed. */
+/* Second key word: separates helmix's streams from any other use of the same seed; the stream
+ * number goes into its upper half (stream 0 leaves it as it always was). */
 #define HX_RNG_DOMAIN 0x68656c6d69780001ULL
 
-void hx_rng_bits(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, uint64_t round, uint64_t out[4])
+static inline uint64_t domain(uint64_t stream) { return HX_RNG_DOMAIN ^ (stream << 32); }
+
+void hx_rng_bits(uint64_t seed, uint64_t stream, int64_t nx, int64_t ny, int64_t nz, uint64_t round, uint64_t out[4])
 {
-    philox4x64_key_t key = {{seed, HX_RNG_DOMAIN}};
+    philox4x64_key_t key = {{seed, domain(stream)}};
     philox4x64_ctr_t ctr = {{(uint64_t)nx, (uint64_t)ny, (uint64_t)nz, round}};
     philox4x64_ctr_t r = philox4x64(ctr, key);
     for (int i = 0; i < 4; i++) out[i] = r.v[i];
@@ -41,7 +44,7 @@ static inline int polar(const uint64_t b[4], int c, int canon, hx_amplitudes amp
  * accepted points go to the components in order, and a mode still short of three moves on to
  * the next block (about one mode in five), keyed by the round number, so the draw stays a
  * pure function of (seed, n). */
-void hx_rng_vector(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, hx_amplitudes amp, int flip, double w[6])
+void hx_rng_vector(uint64_t seed, uint64_t stream, int64_t nx, int64_t ny, int64_t nz, hx_amplitudes amp, int flip, double w[6])
 {
     if (nx == 0 && ny == 0 && nz == 0) {
         for (int i = 0; i < 6; i++) w[i] = 0.0;
@@ -52,17 +55,17 @@ void hx_rng_vector(uint64_t seed, int64_t nx, int64_t ny, int64_t nz, hx_amplitu
     int c = 0;
     for (uint64_t round = 0; c < 3; round++) {
         uint64_t b[4];
-        hx_rng_bits(seed, nx, ny, nz, round, b);
+        hx_rng_bits(seed, stream, nx, ny, nz, round, b);
         c = polar(b, c, canon, amp, flip, w);
     }
 }
 
 enum { BATCH = 16 };
 
-void hx_rng_vectors(uint64_t seed, const int64_t (*n)[3], int count, hx_amplitudes amp, int flip, double (*w)[6])
+void hx_rng_vectors(uint64_t seed, uint64_t stream, const int64_t (*n)[3], int count, hx_amplitudes amp, int flip, double (*w)[6])
 {
     philox4x64_key_t keys[10];
-    keys[0] = (philox4x64_key_t){{seed, HX_RNG_DOMAIN}};
+    keys[0] = (philox4x64_key_t){{seed, domain(stream)}};
     for (int r = 1; r < 10; r++) keys[r] = _philox4x64bumpkey(keys[r - 1]);
     for (int i0 = 0; i0 < count; i0 += BATCH) {
         int m = count - i0 < BATCH ? count - i0 : BATCH, canon[BATCH];
@@ -86,7 +89,7 @@ void hx_rng_vectors(uint64_t seed, const int64_t (*n)[3], int count, hx_amplitud
             int64_t sg = canon[j] ? 1 : -1;
             for (uint64_t round = 1; c < 3; round++) { /* about one mode in five needs a second block */
                 uint64_t b[4];
-                hx_rng_bits(seed, sg * k[0], sg * k[1], sg * k[2], round, b);
+                hx_rng_bits(seed, stream, sg * k[0], sg * k[1], sg * k[2], round, b);
                 c = polar(b, c, canon[j], amp, flip, out);
             }
         }

@@ -119,7 +119,7 @@ fail:
     return st;
 }
 
-hx_status hx_spectrum_create(hx_spectrum **out, const hx_recipe *r, MPI_Comm comm)
+hx_status hx_spectrum_create(hx_spectrum **out, const hx_spectrum_spec *r, MPI_Comm comm)
 {
     hx_status st = HX_OK;
     hx_spectrum *sp = NULL;

@@ -1,5 +1,7 @@
-/* helmix/field.h — the streaming synthesis pipeline: k-space sums, mix factors, and one
- * velocity component at a time through an in-place c2r FFTW-MPI transform.
+/* helmix/field.h — the streaming synthesis pipeline of one field (a descriptor, hx_desc):
+ * k-space sums, mix factors, and one component at a time through an in-place c2r FFTW-MPI
+ * transform. A vector field is split into solenoidal and compressive parts and mixed; a
+ * scalar field (ncomp = 1) uses the first draw of each mode and is scaled to its rms.
  *
  * Memory: one complex slab per rank (the transform is in place and the result is compacted
  * and converted to the output precision inside the same buffer), so peak memory does not
@@ -12,10 +14,10 @@
 
 #include <mpi.h>
 
+#include "helmix/desc.h"
 #include "helmix/diag.h"
 #include "helmix/error.h"
 #include "helmix/grid.h"
-#include "helmix/recipe.h"
 #include "helmix/spectrum.h"
 
 typedef struct hx_field hx_field;
@@ -40,16 +42,17 @@ typedef struct hx_field_summary {
  * FFTW returns no plan, HX_ERR_MEM when the slab cannot be allocated (agreed on all ranks). */
 hx_status hx_field_create(hx_field **f, const hx_grid *g, unsigned plan_flags, MPI_Comm comm);
 
-/* Collective: draw every mode once, sum the solenoidal and compressive energies per shell,
- * reduce them over comm and solve the mix (hx_mix_solve). r and sp must outlive f.
+/* Collective: draw every mode of field d once, sum the solenoidal and compressive energies per
+ * shell, reduce them over comm and solve the mix (hx_mix_solve) for the rms d->rms. d and sp
+ * (the spectrum of d->spectrum) must outlive f or the next hx_field_mix.
  * With exact = none the mix needs no look-ahead, so this pass is folded into the synthesis of
  * component 0 (which must then come first) and the summary is ready only after it. */
-hx_status hx_field_mix(hx_field *f, const hx_recipe *r, const hx_spectrum *sp);
+hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp);
 
 /* The summary of the mix, or NULL while it is not known yet. Not collective. */
 const hx_field_summary *hx_field_summary_get(const hx_field *f);
 
-/* Collective: synthesize component c (0 = x, 1 = y, 2 = z) in real space. On return *slab
+/* Collective: synthesize component c (0 = x, 1 = y, 2 = z; 0 for a scalar) in real space. On return *slab
  * points to this rank's nz * Ny * Nx values (x fastest) as float (single) or double, valid
  * until the next call, and mom (may be NULL) holds the global moment sums of the values
  * written (centre 0, scale the component's rms from its k-space power), gathered while

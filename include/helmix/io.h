@@ -1,6 +1,8 @@
 /* helmix/io.h — the output cube: one HDF5 file written collectively through MPI-IO in the
- * Grid Data Format layout (a single level-0 grid, field_ordering 1, periodic), attributes
- * under /helmix for provenance, and an XDMF sidecar so ParaView and VisIt see a vector field.
+ * Grid Data Format layout (a single level-0 grid, field_ordering 1, periodic), named fields of
+ * one or three components with their units, the code units under /dataset_units, attributes
+ * under /helmix for provenance, and an XDMF sidecar so ParaView and VisIt see every field.
+ * Paths and names come from helmix/schema.h.
  *
  * The file is written as PATH.partial and renamed to PATH only by hx_io_close(commit = 1),
  * so a crashed or failed run never leaves a file that looks complete. */
@@ -19,13 +21,34 @@ typedef struct hx_io hx_io;
 /* Collective: HX_ERR_EXISTS (on every rank) when path exists and force is 0. */
 hx_status hx_io_check_target(const char *path, int force, MPI_Comm comm);
 
-/* Collective: create PATH.partial with the GDF skeleton and three empty velocity datasets of
- * shape (Nz, Ny, Nx) in the given precision. */
+#define HX_IO_MAX_FIELDS 8
+
+/* Collective: create PATH.partial with the GDF skeleton; datasets of the given precision come
+ * with hx_io_add_field. */
 hx_status hx_io_create(hx_io **w, const char *path, const hx_grid *g, hx_precision prec, MPI_Comm comm);
 
+/* Collective: add field `name` with ncomp (1 or 3) datasets of shape (Nz, Ny, Nx), named by
+ * hx_schema_component, whose values are in `unit` (yt's spelling, e.g. "code_length/code_time");
+ * *id identifies it for writing. */
+hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *unit, int *id);
+
+/* Collective: the code units, in cgs, as yt's Grid Data Format reader takes them. */
+hx_status hx_io_units(hx_io *w, double length_cm, double mass_g, double time_s);
+
 /* Collective: write this rank's slab (nz * Ny * Nx values, x fastest, in the file's precision)
- * of component c with a collective MPI-IO transfer. Ranks with nz = 0 take part. */
-hx_status hx_io_write_component(hx_io *w, int c, const void *slab);
+ * of component c of field id with a collective MPI-IO transfer. Ranks with nz = 0 take part. */
+hx_status hx_io_write_component(hx_io *w, int id, int c, const void *slab);
+
+/* The same from double values, converted to the file's precision by HDF5 on the way out. */
+hx_status hx_io_write_doubles(hx_io *w, int id, int c, const double *slab);
+
+/* Collective: close the partial file for a while (so it can be read back, e.g. by the
+ * analysis of inspect) and open it again for attributes; datasets stay known by id. */
+hx_status hx_io_pause(hx_io *w);
+hx_status hx_io_resume(hx_io *w);
+
+/* The name of the file being written (PATH.partial). */
+const char *hx_io_partial(const hx_io *w);
 
 /* Collective: attributes of group `group` (created on first use, e.g. "/helmix" or
  * "/helmix/diagnostics"). Every rank passes the same values. */

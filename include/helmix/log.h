@@ -24,4 +24,8 @@ void hx_log_init(hx_log *log, MPI_Comm comm, int verbosity, FILE *out);
 /* Print one progress line on rank 0 if level <= verbosity. Not collective. */
 void hx_log_say(const hx_log *log, int level, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
 
+/* Largest resident set so far over the ranks of comm, in bytes (collective). */
+#include "helmix/error.h"
+hx_status hx_log_peak_rss(MPI_Comm comm, long long *bytes);
+
 #endif

@@ -1,7 +1,10 @@
-/* helmix/make.h — the whole generator: recipe in, verified cube out.
+/* helmix/make.h — the whole generator: recipe in, verified initial state out.
  *
- * Prolog (layout, spectrum, plan), one k-space pass (sums and mix), then for each velocity
- * component: synthesize, transform, write; then provenance and the atomic rename. Progress
+ * Prolog (layout, cloud, field descriptors, plan); the density (a model, a lognormal field or
+ * a clumpy cloud) kept in one real slab and written; then the velocity: one k-space pass (sums
+ * and mix) and, for each component, synthesize, transform, write. A velocity shaped by the
+ * cloud (window, bulk or rotation removal, mass-weighted amplitude) takes a measuring pass
+ * first and is analysed as written afterwards. Then provenance and the atomic rename. Progress
  * goes through the rank-0 logger. */
 #ifndef HELMIX_MAKE_H
 #define HELMIX_MAKE_H
@@ -25,13 +28,18 @@ typedef struct hx_make_result {
     double t_write[3];     /* per component: collective write                             */
     double t_total;        /* from the start to the provenance write                      */
     long long peak_rss;    /* bytes, largest over ranks                                   */
+    int as_written;        /* 1: share and diagnostics measured on the field as written     */
+    /* the physical state as written (NAN where it does not apply) */
+    double sigma_3d;       /* mass-weighted 3D dispersion over the cloud region            */
+    double mach, virial;   /* sigma_3d / c_s; 5 (sigma_3d^2/3) R / (G M_region)              */
+    double region_mass, radius;
+    double momentum[3], angular[3];  /* net, over the box, code units                       */
+    double momentum_rel, angular_rel;/* |P| / (M vrms), |L| / (M <|Delta|^2>^1/2 vrms)       */
+    double density_mean, sigma_s_written; /* volume mean of rho; std of ln rho              */
 } hx_make_result;
 
 /* Collective: generate the cube of validated recipe r into r->file (replacing an existing
  * file only if force). res may be NULL. On failure nothing is left at r->file. */
 hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm comm, hx_make_result *res);
-
-/* Largest resident set so far over the ranks of comm, in bytes (collective). */
-hx_status hx_make_peak_rss(MPI_Comm comm, long long *bytes);
 
 #endif

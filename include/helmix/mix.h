@@ -4,7 +4,7 @@
  * compressive part P_par w (orthogonal per mode), sums A(k)^2 |P_perp w|^2 and
  * A(k)^2 |P_par w|^2 over each shell (Parseval, before any transform), and asks this module
  * for factors a_s, b_s so that the field A (a_s P_perp w + b_s P_par w) has rms vrms and the
- * requested compressive share. Pure functions, not collective. */
+ * requested compressive share (m, from the field's descriptor). Pure functions, not collective. */
 #ifndef HELMIX_MIX_H
 #define HELMIX_MIX_H
 
@@ -18,7 +18,7 @@ double hx_mix_expected_fraction(double zeta);
 /* Weights (alpha, beta) of the solenoidal and compressive parts for a free draw (exact = none):
  * zeta gives (zeta, 1 - zeta); a compressive fraction f gives (sqrt(1 - f), sqrt(2 f)), whose
  * expected share is f because an isotropic draw holds twice as much power across k as along it. */
-void hx_mix_weights(const hx_recipe *r, double *alpha, double *beta);
+void hx_mix_weights(const hx_mix_spec *m, double *alpha, double *beta);
 
 /* Solve for a[s], b[s], s = 0..nshell-1, given per-shell sums sol[s], comp[s] of the
  * unscaled parts. Rules:
@@ -30,7 +30,7 @@ void hx_mix_weights(const hx_recipe *r, double *alpha, double *beta);
  *                       sol[s] + comp[s] up to the global factor.
  * HX_ERR_ARG when the request cannot be met (for example no compressive power at all while
  * f > 0), with a message saying why. */
-hx_status hx_mix_solve(const hx_recipe *r, const double *sol, const double *comp, int nshell,
+hx_status hx_mix_solve(const hx_mix_spec *m, double vrms, const double *sol, const double *comp, int nshell,
                        double *a, double *b);
 
 /* Compressive share realized by factors a, b on the sums: sum b^2 comp / sum (a^2 sol + b^2 comp). */

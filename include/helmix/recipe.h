@@ -1,8 +1,8 @@
 /* helmix/recipe.h — what the user asked for: parsing, validation, overrides and rendering of
  * an INI recipe.
  *
- * One table of keys (section, name, type, default, unit, help, validator) in recipe.c drives
- * the parser, the validator, `helmix template` and the rendering stored in output files.
+ * One table of keys (section, name, kind, place in the struct, default, unit, help) in recipe.c
+ * drives the parser, the validator, `helmix template` and the rendering stored in output files.
  * Parsing works on text, not on a file, so rank 0 can read the file once and broadcast it and
  * every rank reaches the same verdict. None of these functions is collective. */
 #ifndef HELMIX_RECIPE_H
@@ -18,27 +18,89 @@ typedef enum { HX_MIX_ZETA = 0, HX_MIX_FRACTION } hx_mix_mode;
 typedef enum { HX_EXACT_NONE = 0, HX_EXACT_TOTAL, HX_EXACT_SHELL } hx_exact;
 typedef enum { HX_AMP_GAUSSIAN = 0, HX_AMP_FIXED } hx_amplitudes;
 typedef enum { HX_PREC_SINGLE = 0, HX_PREC_DOUBLE } hx_precision;
+typedef enum { HX_DENSITY_NONE = 0, HX_DENSITY_UNIFORM, HX_DENSITY_SPHERE, HX_DENSITY_BONNOR_EBERT,
+               HX_DENSITY_LOGNORMAL } hx_density_model;
+typedef enum { HX_WEIGHT_VOLUME = 0, HX_WEIGHT_MASS } hx_weight;
+typedef enum { HX_AMPLITUDE_VRMS = 0, HX_AMPLITUDE_MACH, HX_AMPLITUDE_VIRIAL, HX_AMPLITUDE_LINEWIDTH } hx_amplitude_by;
 
 #define HX_PATH_MAX 4096
-#define HX_RECIPE_MAX_KEYS 32
+#define HX_RECIPE_MAX_KEYS 64
 
-/* A validated recipe. Plain data: copy it freely. */
+/* A shell-integrated spectrum E(k), zero outside [kmin, kmax] (units of 2 pi / max L). */
+typedef struct hx_spectrum_spec {
+    hx_shape shape;
+    double slope;            /* E(k) ~ k^-slope for shape = power                        */
+    double kmin, kmax;       /* kmax < 0 means "N/2 - 1" until validated                  */
+    char table[HX_PATH_MAX]; /* (k, E) file for shape = table, as resolved                */
+} hx_spectrum_spec;
+
+/* How the solenoidal and compressive parts of a vector field are weighted. */
+typedef struct hx_mix_spec {
+    hx_mix_mode mode;
+    double zeta;                 /* when mode == HX_MIX_ZETA                              */
+    double compressive_fraction; /* when mode == HX_MIX_FRACTION                          */
+    hx_exact exact;              /* default: none with zeta, total with fraction          */
+} hx_mix_spec;
+
+/* A number a user may give with a unit ("2 pc"): value in cgs (K, gauss) when unit = 1, else
+ * in code units; hx_recipe_validate converts it to code units and sets unit = 0. NAN: not given. */
+typedef struct hx_quantity {
+    double value;
+    int unit;
+    char text[48]; /* as the user wrote it, for the rendering */
+} hx_quantity;
+
+/* Derived by hx_recipe_validate: the code units in cgs and the constants the run needs in
+ * code units. */
+typedef struct hx_code_units {
+    double length, velocity, density; /* cm, cm/s, g/cm^3 per code unit                   */
+    double mass, time;                /* g and s per code unit (density * length^3, length / velocity) */
+    double G;                         /* gravitational constant in code units             */
+    double sound_speed;               /* c_s = sqrt(gamma k_B T / (mu m_H)), code velocity */
+} hx_code_units;
+
+/* A validated recipe. Plain data: copy it freely. Lengths, velocities, densities and masses
+ * below are in code units after hx_recipe_validate (it converts what was given with a unit). */
 typedef struct hx_recipe {
     /* [grid] */
     int64_t cells[3];  /* Nx, Ny, Nz; "cells = 256" means 256 256 256                */
     double box[3];     /* Lx, Ly, Lz in code length units; "box = 1" means 1 1 1       */
+    /* [units] the code units, in cgs when given without a unit */
+    hx_quantity unit_length, unit_velocity, unit_density, unit_mass;
     /* [spectrum] */
-    hx_shape shape;
-    double slope;      /* E(k) ~ k^-slope, shell-integrated                             */
-    double kmin, kmax; /* in units of 2 pi / max(L); kmax < 0 means "N/2 - 1" default   */
-    char table[HX_PATH_MAX]; /* (k, E) file for shape = table, as resolved              */
+    hx_spectrum_spec spectrum;
     /* [mix] */
-    hx_mix_mode mix_mode;
-    double zeta;                 /* when mix_mode == HX_MIX_ZETA                        */
-    double compressive_fraction; /* when mix_mode == HX_MIX_FRACTION                    */
-    hx_exact exact;              /* default: none with zeta, total with fraction        */
-    /* [amplitude] */
-    double vrms;
+    hx_mix_spec mix;
+    hx_weight weight;   /* share of v (volume) or of sqrt(rho) v (mass)                 */
+    /* [amplitude]: exactly one of vrms, mach, virial, linewidth */
+    hx_amplitude_by amplitude_by;
+    double vrms;        /* 3D rms, code velocity; after validation the target of amplitude_by too */
+    double mach;        /* sigma_3D / c_s                                                 */
+    double virial;      /* 5 sigma_1D^2 R / (G M)                                          */
+    int linewidth;      /* sigma_3D = linewidth_sigma (L / 1 pc)^linewidth_index              */
+    hx_quantity linewidth_sigma;
+    double linewidth_index;
+    /* [velocity] */
+    int window;          /* confine the turbulence to the cloud                             */
+    int remove_bulk;     /* -1 auto (on when the density is not uniform), 0, 1               */
+    int remove_rotation; /* remove the net angular momentum about the centre of mass         */
+    /* [gas] */
+    hx_quantity temperature; /* K */
+    double mu, gamma;
+    /* [density] */
+    hx_density_model density_model;
+    hx_quantity density_mean;    /* uniform, lognormal: volume mean; sphere: cloud density  */
+    hx_quantity cloud_radius;    /* sphere                                               */
+    hx_quantity cloud_mass;      /* sphere, bonnor-ebert: instead of a density              */
+    hx_quantity central_density; /* bonnor-ebert                                         */
+    hx_quantity edge;            /* width of the smooth cloud edge (0: sharp)              */
+    double contrast;             /* cloud (edge) density over ambient density               */
+    double xi_max;               /* bonnor-ebert; NAN: the critical value                    */
+    double sigma_s;              /* lognormal width of ln rho; NAN: from b and Mach           */
+    double b;                    /* forcing parameter; NAN: from the mix                      */
+    int clumps;                  /* modulate sphere / bonnor-ebert by a lognormal field       */
+    /* [density_spectrum] the spectrum of s = ln(rho / rho_0) */
+    hx_spectrum_spec density_spectrum;
     /* [random] */
     uint64_t seed;
     hx_amplitudes amplitudes;
@@ -46,6 +108,8 @@ typedef struct hx_recipe {
     /* [output] */
     char file[HX_PATH_MAX];
     hx_precision precision;
+    /* derived by hx_recipe_validate */
+    hx_code_units code;
     /* where each key (in key-table order) was last set: its line in the recipe text, or 0
      * for a default or a --set; lets cross-key messages point at the line */
     int line[HX_RECIPE_MAX_KEYS];
@@ -64,10 +128,9 @@ hx_status hx_recipe_parse(hx_recipe *r, const char *text, const char *origin, co
 /* Apply one "section.key=value" override (from --set). Messages name "--set". */
 hx_status hx_recipe_set(hx_recipe *r, const char *assignment);
 
-/* Cross-key checks and derived defaults (kmax default N/2-1, exact default by mix mode):
- * cells given and >= 4 and even; box > 0; 0 < kmin <= kmax <= largest wavenumber below
- * Nyquist on every axis; exactly one of zeta / compressive_fraction; both in [0, 1];
- * exact = shell only meaningful as documented. HX_ERR_ARG with one clear line on failure. */
+/* Cross-key checks, derived defaults (kmax default N/2-1, exact default by mix mode, the
+ * amplitude, the b of the lognormal width) and the conversion of every quantity to code
+ * units. HX_ERR_ARG with one clear line on failure. */
 hx_status hx_recipe_validate(hx_recipe *r);
 
 /* The largest admissible kmax for these cells and box: min over axes of
@@ -87,5 +150,10 @@ void hx_recipe_print_keys(FILE *out);
 /* Names for enums as they appear in recipes ("power", "total", ...). */
 const char *hx_shape_name(hx_shape s);
 const char *hx_exact_name(hx_exact e);
+const char *hx_density_model_name(hx_density_model m);
+const char *hx_amplitude_by_name(hx_amplitude_by a);
+
+/* The cloud of a validated recipe (sphere or bonnor-ebert), 1 if there is one. */
+int hx_recipe_has_cloud(const hx_recipe *r);
 
 #endif

@@ -14,9 +14,9 @@
 
 typedef struct hx_spectrum hx_spectrum;
 
-/* Collective: build the spectrum of recipe r. For shape = table rank 0 reads the file and
+/* Collective: build spectrum s (of any field). For shape = table rank 0 reads the file and
  * broadcasts it. HX_ERR_ARG for an unreadable or malformed table. */
-hx_status hx_spectrum_create(hx_spectrum **sp, const hx_recipe *r, MPI_Comm comm);
+hx_status hx_spectrum_create(hx_spectrum **sp, const hx_spectrum_spec *s, MPI_Comm comm);
 
 /* E(k) for k in units of 2 pi / lmax (0 outside the band). Not collective. */
 double hx_spectrum_energy(const hx_spectrum *sp, double k);

@@ -39,27 +39,27 @@ static void test_rules(void)
     double a[NS], b[NS];
     hx_recipe r = base();
 
-    r.mix_mode = HX_MIX_ZETA, r.zeta = 0.3, r.exact = HX_EXACT_NONE;
-    CHECK(hx_mix_solve(&r, sol, comp, NS, a, b) == HX_OK);
+    r.mix.mode = HX_MIX_ZETA, r.mix.zeta = 0.3, r.mix.exact = HX_EXACT_NONE;
+    CHECK(hx_mix_solve(&r.mix, r.vrms, sol, comp, NS, a, b) == HX_OK);
     CHECK_CLOSE(energy(sol, comp, a, b, NS), 4.0, 1e-13);
     CHECK_CLOSE(a[2] / b[2], 0.3 / 0.7, 1e-14);
 
     /* a freely drawn fraction: weights (sqrt(1-f), sqrt(2f)) so that with E sol = 2 E comp per
      * mode (two transverse directions, one longitudinal) the expected share is f */
-    r.mix_mode = HX_MIX_FRACTION, r.compressive_fraction = 0.4;
+    r.mix.mode = HX_MIX_FRACTION, r.mix.compressive_fraction = 0.4;
     const double iso_sol[NS] = {0, 2, 2, 2, 2, 2}, iso_comp[NS] = {0, 1, 1, 1, 1, 1};
-    CHECK(hx_mix_solve(&r, iso_sol, iso_comp, NS, a, b) == HX_OK);
+    CHECK(hx_mix_solve(&r.mix, r.vrms, iso_sol, iso_comp, NS, a, b) == HX_OK);
     CHECK_CLOSE(hx_mix_realized_fraction(iso_sol, iso_comp, a, b, NS), 0.4, 1e-14);
     CHECK_CLOSE(energy(iso_sol, iso_comp, a, b, NS), 4.0, 1e-13);
-    r.mix_mode = HX_MIX_ZETA;
+    r.mix.mode = HX_MIX_ZETA;
 
-    r.exact = HX_EXACT_TOTAL; /* pinned to the expected share of zeta */
-    CHECK(hx_mix_solve(&r, sol, comp, NS, a, b) == HX_OK);
+    r.mix.exact = HX_EXACT_TOTAL; /* pinned to the expected share of zeta */
+    CHECK(hx_mix_solve(&r.mix, r.vrms, sol, comp, NS, a, b) == HX_OK);
     CHECK_CLOSE(hx_mix_realized_fraction(sol, comp, a, b, NS), hx_mix_expected_fraction(0.3), 1e-14);
     CHECK_CLOSE(energy(sol, comp, a, b, NS), 4.0, 1e-13);
 
-    r.mix_mode = HX_MIX_FRACTION, r.compressive_fraction = 0.8, r.exact = HX_EXACT_SHELL;
-    CHECK(hx_mix_solve(&r, sol, comp, NS, a, b) == HX_OK);
+    r.mix.mode = HX_MIX_FRACTION, r.mix.compressive_fraction = 0.8, r.mix.exact = HX_EXACT_SHELL;
+    CHECK(hx_mix_solve(&r.mix, r.vrms, sol, comp, NS, a, b) == HX_OK);
     CHECK_CLOSE(energy(sol, comp, a, b, NS), 4.0, 1e-13);
     double unmixed = 0;
     for (int s = 0; s < NS; s++) unmixed += sol[s] + comp[s];
@@ -71,8 +71,8 @@ static void test_rules(void)
     }
     CHECK(a[0] == 0 && b[0] == 0);
 
-    r.compressive_fraction = 1.0, r.exact = HX_EXACT_TOTAL;
-    CHECK(hx_mix_solve(&r, sol, comp, NS, a, b) == HX_OK);
+    r.mix.compressive_fraction = 1.0, r.mix.exact = HX_EXACT_TOTAL;
+    CHECK(hx_mix_solve(&r.mix, r.vrms, sol, comp, NS, a, b) == HX_OK);
     CHECK(a[3] == 0);
     CHECK_CLOSE(hx_mix_realized_fraction(sol, comp, a, b, NS), 1.0, 1e-15);
 }
@@ -83,10 +83,10 @@ static void test_refusals(void)
     const double sol[3] = {0, 1, 1}, nocomp[3] = {0, 0, 0}, zero[3] = {0, 0, 0};
     double a[3], b[3];
     hx_recipe r = base();
-    r.mix_mode = HX_MIX_FRACTION, r.compressive_fraction = 0.5, r.exact = HX_EXACT_TOTAL;
-    CHECK(hx_mix_solve(&r, sol, nocomp, 3, a, b) == HX_ERR_ARG);
+    r.mix.mode = HX_MIX_FRACTION, r.mix.compressive_fraction = 0.5, r.mix.exact = HX_EXACT_TOTAL;
+    CHECK(hx_mix_solve(&r.mix, r.vrms, sol, nocomp, 3, a, b) == HX_ERR_ARG);
     CHECK_STR_CONTAINS(hx_error_message(), "no compressive power");
-    CHECK(hx_mix_solve(&r, zero, zero, 3, a, b) == HX_ERR_ARG);
+    CHECK(hx_mix_solve(&r.mix, r.vrms, zero, zero, 3, a, b) == HX_ERR_ARG);
     CHECK_STR_CONTAINS(hx_error_message(), "no power");
 }
 

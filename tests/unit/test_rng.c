@@ -32,11 +32,18 @@ static void test_known_answers(void)
     }
     /* hx_rng_bits is that generator with key (seed, helmix's domain word) and counter (n, round) */
     uint64_t out[4];
-    hx_rng_bits(42, 3, -4, 5, 1, out);
+    hx_rng_bits(42, 0, 3, -4, 5, 1, out);
     philox4x64_ctr_t ctr = {{3, (uint64_t)-4, 5, 1}};
     philox4x64_key_t key = {{42, 0x68656c6d69780001ULL}};
     philox4x64_ctr_t r = philox4x64_R(10, ctr, key);
     for (int i = 0; i < 4; i++) CHECK(out[i] == r.v[i]);
+    /* another stream (the density's, 1) puts its number in the upper half of the domain word:
+     * a different key, so different bits, and the velocity stream 0 keeps the key above */
+    uint64_t dens[4];
+    hx_rng_bits(42, 1, 3, -4, 5, 1, dens);
+    key.v[1] ^= 1ULL << 32;
+    r = philox4x64_R(10, ctr, key);
+    for (int i = 0; i < 4; i++) CHECK(dens[i] == r.v[i] && dens[i] != out[i]);
 }
 
 /* Hermitian symmetry w(-n) = conj(w(n)) must hold exactly for a real field (common practice). */
@@ -47,8 +54,8 @@ static void test_hermitian(void)
         for (int64_t y = -3; y <= 3; y++)
             for (int64_t z = -3; z <= 3; z++) {
                 double a[6], b[6];
-                hx_rng_vector(7, x, y, z, HX_AMP_GAUSSIAN, 0, a);
-                hx_rng_vector(7, -x, -y, -z, HX_AMP_GAUSSIAN, 0, b);
+                hx_rng_vector(7, 0, x, y, z, HX_AMP_GAUSSIAN, 0, a);
+                hx_rng_vector(7, 0, -x, -y, -z, HX_AMP_GAUSSIAN, 0, b);
                 for (int c = 0; c < 3; c++)
                     if (a[2 * c] != b[2 * c] || a[2 * c + 1] != -b[2 * c + 1]) ok = 0;
                 if (x == 0 && y == 0 && z == 0 && (a[0] != 0 || a[1] != 0)) ok = 0;
@@ -67,10 +74,10 @@ static void test_hermitian(void)
 static void test_keying(void)
 {
     double a[6], b[6], d[6], e[6];
-    hx_rng_vector(1, 3, -2, 5, HX_AMP_GAUSSIAN, 0, a);
-    hx_rng_vector(2, 3, -2, 5, HX_AMP_GAUSSIAN, 0, b);
-    hx_rng_vector(1, 3, -2, 6, HX_AMP_GAUSSIAN, 0, d);
-    hx_rng_vector(1, 3, -2, 5, HX_AMP_GAUSSIAN, 1, e);
+    hx_rng_vector(1, 0, 3, -2, 5, HX_AMP_GAUSSIAN, 0, a);
+    hx_rng_vector(2, 0, 3, -2, 5, HX_AMP_GAUSSIAN, 0, b);
+    hx_rng_vector(1, 0, 3, -2, 6, HX_AMP_GAUSSIAN, 0, d);
+    hx_rng_vector(1, 0, 3, -2, 5, HX_AMP_GAUSSIAN, 1, e);
     CHECK(a[0] != b[0] && a[0] != d[0] && a[0] != a[2] && a[2] != a[4]);
     int neg = 1;
     for (int i = 0; i < 6; i++) neg &= e[i] == -a[i];
@@ -87,11 +94,11 @@ static void test_batch(void)
     for (int i = 0; i < M; i++) n[i][0] = i % 7 - 3, n[i][1] = (i / 7) % 5 - 2, n[i][2] = i / 35 - 2;
     for (int amp = 0; amp < 2; amp++)
         for (int flip = 0; flip < 2; flip++) {
-            hx_rng_vectors(99, (const int64_t(*)[3])n, M, (hx_amplitudes)amp, flip, w);
+            hx_rng_vectors(99, 0, (const int64_t(*)[3])n, M, (hx_amplitudes)amp, flip, w);
             int same = 1;
             for (int i = 0; i < M; i++) {
                 double v[6];
-                hx_rng_vector(99, n[i][0], n[i][1], n[i][2], (hx_amplitudes)amp, flip, v);
+                hx_rng_vector(99, 0, n[i][0], n[i][1], n[i][2], (hx_amplitudes)amp, flip, v);
                 for (int j = 0; j < 6; j++) same &= v[j] == w[i][j];
             }
             CHECK(same);
@@ -109,8 +116,8 @@ static void test_moments(void)
     double m2 = 0, m4 = 0, fixed_dev = 0, tail = 0;
     for (int i = 0; i < M; i++) {
         double w[6], f[6];
-        hx_rng_vector(11, 1 + i % 97, i / 97, 3, HX_AMP_GAUSSIAN, 0, w);
-        hx_rng_vector(11, 1 + i % 97, i / 97, 3, HX_AMP_FIXED, 0, f);
+        hx_rng_vector(11, 0, 1 + i % 97, i / 97, 3, HX_AMP_GAUSSIAN, 0, w);
+        hx_rng_vector(11, 0, 1 + i % 97, i / 97, 3, HX_AMP_FIXED, 0, f);
         for (int c = 0; c < 3; c++) {
             double complex z = w[2 * c] + I * w[2 * c + 1];
             double a2 = creal(z * conj(z));

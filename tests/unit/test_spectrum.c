@@ -13,10 +13,10 @@ static hx_recipe recipe(hx_shape shape)
 {
     hx_recipe r;
     hx_recipe_defaults(&r);
-    r.shape = shape;
-    r.slope = 5.0 / 3.0; /* Kolmogorov 1941 inertial range, E ~ k^-5/3 (textbook) */
-    r.kmin = 2;
-    r.kmax = 20;
+    r.spectrum.shape = shape;
+    r.spectrum.slope = 5.0 / 3.0; /* Kolmogorov 1941 inertial range, E ~ k^-5/3 (textbook) */
+    r.spectrum.kmin = 2;
+    r.spectrum.kmax = 20;
     return r;
 }
 
@@ -24,7 +24,7 @@ static void test_power(void)
 {
     hx_recipe r = recipe(HX_SHAPE_POWER);
     hx_spectrum *sp = NULL;
-    CHECK(hx_spectrum_create(&sp, &r, MPI_COMM_SELF) == HX_OK);
+    CHECK(hx_spectrum_create(&sp, &r.spectrum, MPI_COMM_SELF) == HX_OK);
     /* log-log slope between any two k in the band is -slope exactly */
     double s = log(hx_spectrum_energy(sp, 8.0) / hx_spectrum_energy(sp, 3.0)) / log(8.0 / 3.0);
     CHECK_CLOSE(s, -5.0 / 3.0, 1e-12);
@@ -41,7 +41,7 @@ static void test_band(void)
 {
     hx_recipe r = recipe(HX_SHAPE_BAND);
     hx_spectrum *sp = NULL;
-    CHECK(hx_spectrum_create(&sp, &r, MPI_COMM_SELF) == HX_OK);
+    CHECK(hx_spectrum_create(&sp, &r.spectrum, MPI_COMM_SELF) == HX_OK);
     CHECK(hx_spectrum_energy(sp, 2.0) == 0 && hx_spectrum_energy(sp, 20.0) == 0);
     /* a parabola in k peaks midway: (kmin + kmax) / 2 = 11 */
     CHECK(hx_spectrum_energy(sp, 11.0) > hx_spectrum_energy(sp, 10.5));
@@ -59,10 +59,10 @@ static void test_table(void)
     fprintf(fp, "# k E\n1 1\n4 0.0625\n16 0.00390625\n32 0\n");
     fclose(fp);
     hx_recipe r = recipe(HX_SHAPE_TABLE);
-    snprintf(r.table, sizeof r.table, "%s", path);
-    r.kmin = 1, r.kmax = 31;
+    snprintf(r.spectrum.table, sizeof r.spectrum.table, "%s", path);
+    r.spectrum.kmin = 1, r.spectrum.kmax = 31;
     hx_spectrum *sp = NULL;
-    CHECK(hx_spectrum_create(&sp, &r, MPI_COMM_SELF) == HX_OK);
+    CHECK(hx_spectrum_create(&sp, &r.spectrum, MPI_COMM_SELF) == HX_OK);
     if (sp) {
         /* table points follow k^-2 exactly; log-log interpolation reproduces a power law between them */
         CHECK_CLOSE(hx_spectrum_energy(sp, 2.0), 0.25, 1e-12);
@@ -84,9 +84,9 @@ static void test_table(void)
     free(k);
     free(e);
 
-    r.shape = HX_SHAPE_TABLE;
-    snprintf(r.table, sizeof r.table, "/nonexistent/helmix/table.txt");
-    CHECK(hx_spectrum_create(&sp, &r, MPI_COMM_SELF) == HX_ERR_ARG);
+    r.spectrum.shape = HX_SHAPE_TABLE;
+    snprintf(r.spectrum.table, sizeof r.spectrum.table, "/nonexistent/helmix/table.txt");
+    CHECK(hx_spectrum_create(&sp, &r.spectrum, MPI_COMM_SELF) == HX_ERR_ARG);
     CHECK_STR_CONTAINS(hx_error_message(), "cannot read");
 }
 

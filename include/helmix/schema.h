@@ -1,0 +1,55 @@
+/* helmix/schema.h — the layout of a helmix file, declared once: group and dataset paths and
+ * the attribute names of the /helmix provenance group. The writer (io, make) and the reader
+ * (cube, inspect) both use these names, so the two cannot drift apart. */
+#ifndef HELMIX_SCHEMA_H
+#define HELMIX_SCHEMA_H
+
+#include <stdio.h>
+
+/* Grid Data Format groups (the layout yt's GDF reader expects) */
+#define HX_SCHEMA_GRID "/data/grid_0000000000"      /* the one level-0 grid               */
+#define HX_SCHEMA_FIELD_TYPES "/field_types"        /* per field: name, units, staggering  */
+#define HX_SCHEMA_SIMULATION "/simulation_parameters"
+#define HX_SCHEMA_UNITS "/dataset_units"            /* code units: value + "unit" attribute */
+#define HX_SCHEMA_GDF "/gridded_data_format"
+
+/* helmix groups */
+#define HX_SCHEMA_PROVENANCE "/helmix"              /* the request, what was realized, timings */
+#define HX_SCHEMA_DIAGNOSTICS "/helmix/diagnostics" /* the summary inspect measures            */
+#define HX_SCHEMA_STATE "/helmix/state"             /* the physical state: units, gas, cloud   */
+
+/* field names */
+#define HX_FIELD_VELOCITY "velocity"
+#define HX_FIELD_DENSITY "density"
+
+/* attributes of /helmix that inspect reads back */
+#define HX_ATTR_VRMS "vrms"
+#define HX_ATTR_EXACT "exact"
+#define HX_ATTR_AMPLITUDES "amplitudes"
+#define HX_ATTR_FRACTION_TARGET "compressive_fraction_target"
+#define HX_ATTR_FRACTION_REALIZED "realized_compressive_fraction"
+#define HX_ATTR_FRACTION_EXPECTED "expected_compressive_fraction"
+#define HX_ATTR_SHAPE "spectrum_shape"
+#define HX_ATTR_SLOPE "slope"
+#define HX_ATTR_SLOPE_FIT "slope_fit_expected"
+#define HX_ATTR_SLOPE_SIGMA "slope_fit_sigma"
+#define HX_ATTR_KMIN "kmin"
+#define HX_ATTR_KMAX "kmax"
+#define HX_ATTR_WEIGHT "mix_weight" /* "volume": share of v; "mass": share of sqrt(rho) v */
+
+/* Dataset name of component c of a field with ncomp components: "velocity_x", or "density". */
+static inline void hx_schema_component(char *buf, size_t n, const char *field, int ncomp, int c)
+{
+    if (ncomp == 1) snprintf(buf, n, "%s", field);
+    else snprintf(buf, n, "%s_%c", field, "xyz"[c]);
+}
+
+/* Full path of that dataset inside the grid group. */
+static inline void hx_schema_dataset(char *buf, size_t n, const char *field, int ncomp, int c)
+{
+    char name[64];
+    hx_schema_component(name, sizeof name, field, ncomp, c);
+    snprintf(buf, n, HX_SCHEMA_GRID "/%s", name);
+}
+
+#endif

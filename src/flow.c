@@ -1,0 +1,203 @@
+/* flow.c — momentum, angular momentum, dispersions and their removal, one component at a time.
+ * Invariant: every sum is a plain sum over cells (no cell volume) until hx_flow_summarize, and
+ * Delta is measured from the centre of mass, so sum rho Delta = 0 and removing the bulk velocity
+ * leaves the angular momentum unchanged (and removing a rotation leaves the momentum). */
+#include "helmix/flow.h"
+
+#include <math.h>
+#include <string.h>
+
+#include "check.h"
+
+/* Cell centre of local row (z, y) and column x; the rank's planes start at g->z0. */
+static inline void centre(const hx_grid *g, ptrdiff_t z, ptrdiff_t y, ptrdiff_t x, double p[3])
+{
+    p[0] = ((double)x + 0.5) * g->box[0] / (double)g->n[0];
+    p[1] = ((double)y + 0.5) * g->box[1] / (double)g->n[1];
+    p[2] = ((double)(g->z0 + z) + 0.5) * g->box[2] / (double)g->n[2];
+}
+
+static inline double dist(const double p[3], const double c[3])
+{
+    double dx = p[0] - c[0], dy = p[1] - c[1], dz = p[2] - c[2];
+    return sqrt(dx * dx + dy * dy + dz * dz);
+}
+
+static void add_density(hx_flow_w *w, double wt, const double d[3])
+{
+    w->w0 += wt;
+    for (int a = 0; a < 3; a++) {
+        w->w1[a] += wt * d[a];
+        for (int b = 0; b < 3; b++) w->w2[a][b] += wt * d[a] * d[b];
+    }
+}
+
+hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const hx_cloud *cl, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    memset(fl, 0, sizeof *fl);
+    fl->cell_volume = g->box[0] * g->box[1] * g->box[2] / (double)hx_grid_cells(g);
+    double s[4] = {0, 0, 0, 0};
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++)
+            for (ptrdiff_t x = 0; x < g->n[0]; x++) {
+                double p[3], r = rho ? rho[(z * g->n[1] + y) * g->n[0] + x] : 1.0;
+                centre(g, z, y, x, p);
+                for (int a = 0; a < 3; a++) s[a] += r * p[a];
+                s[3] += r;
+            }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 4, MPI_DOUBLE, MPI_SUM, comm));
+    if (!(s[3] > 0)) HX_FAIL(HX_ERR_ARG, "the density has no mass: nothing to weight the velocity with");
+    for (int a = 0; a < 3; a++) fl->origin[a] = s[a] / s[3];
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++)
+            for (ptrdiff_t x = 0; x < g->n[0]; x++) {
+                double p[3], d[3], r = rho ? rho[(z * g->n[1] + y) * g->n[0] + x] : 1.0;
+                centre(g, z, y, x, p);
+                for (int a = 0; a < 3; a++) d[a] = p[a] - fl->origin[a];
+                add_density(&fl->mass, r, d);
+                add_density(&fl->volume, 1.0, d);
+                if (hx_cloud_inside(cl, dist(p, cl->center))) add_density(&fl->region, r, d);
+            }
+    enum { NW = 1 + 3 + 9 };
+    double buf[3 * NW];
+    hx_flow_w *ws[3] = {&fl->mass, &fl->region, &fl->volume};
+    for (int i = 0; i < 3; i++) {
+        buf[i * NW] = ws[i]->w0;
+        memcpy(buf + i * NW + 1, ws[i]->w1, sizeof ws[i]->w1);
+        memcpy(buf + i * NW + 4, ws[i]->w2, sizeof ws[i]->w2);
+    }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, buf, 3 * NW, MPI_DOUBLE, MPI_SUM, comm));
+    for (int i = 0; i < 3; i++) {
+        ws[i]->w0 = buf[i * NW];
+        memcpy(ws[i]->w1, buf + i * NW + 1, sizeof ws[i]->w1);
+        memcpy(ws[i]->w2, buf + i * NW + 4, sizeof ws[i]->w2);
+    }
+fail:
+    return st;
+}
+
+static inline void add_velocity(hx_flow_w *w, int c, double wt, double v, const double d[3])
+{
+    w->v1[c] += wt * v;
+    w->v2[c] += wt * v * v;
+    for (int a = 0; a < 3; a++) w->vx[c][a] += wt * v * d[a];
+}
+
+void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const double *v, const double *rho, const hx_cloud *cl)
+{
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++)
+            for (ptrdiff_t x = 0; x < g->n[0]; x++) {
+                ptrdiff_t i = (z * g->n[1] + y) * g->n[0] + x;
+                double p[3], d[3], r = rho ? rho[i] : 1.0;
+                centre(g, z, y, x, p);
+                for (int a = 0; a < 3; a++) d[a] = p[a] - fl->origin[a];
+                add_velocity(&fl->mass, c, r, v[i], d);
+                add_velocity(&fl->volume, c, 1.0, v[i], d);
+                if (hx_cloud_inside(cl, dist(p, cl->center))) add_velocity(&fl->region, c, r, v[i], d);
+            }
+}
+
+hx_status hx_flow_reduce(hx_flow *fl, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    enum { NV = 3 + 3 + 9 };
+    double buf[3 * NV];
+    hx_flow_w *ws[3] = {&fl->mass, &fl->region, &fl->volume};
+    for (int i = 0; i < 3; i++) {
+        memcpy(buf + i * NV, ws[i]->v1, sizeof ws[i]->v1);
+        memcpy(buf + i * NV + 3, ws[i]->v2, sizeof ws[i]->v2);
+        memcpy(buf + i * NV + 6, ws[i]->vx, sizeof ws[i]->vx);
+    }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, buf, 3 * NV, MPI_DOUBLE, MPI_SUM, comm));
+    for (int i = 0; i < 3; i++) {
+        memcpy(ws[i]->v1, buf + i * NV, sizeof ws[i]->v1);
+        memcpy(ws[i]->v2, buf + i * NV + 3, sizeof ws[i]->v2);
+        memcpy(ws[i]->vx, buf + i * NV + 6, sizeof ws[i]->vx);
+    }
+fail:
+    return st;
+}
+
+/* L_a = sum rho (Delta x v)_a = eps_abc sum rho Delta_b v_c. */
+static void angular(const hx_flow_w *w, double L[3])
+{
+    L[0] = w->vx[2][1] - w->vx[1][2];
+    L[1] = w->vx[0][2] - w->vx[2][0];
+    L[2] = w->vx[1][0] - w->vx[0][1];
+}
+
+/* Solve the symmetric 3x3 system A x = b by Cramer's rule; 0 if A is singular. */
+static int solve3(const double A[3][3], const double b[3], double x[3])
+{
+    double det = A[0][0] * (A[1][1] * A[2][2] - A[1][2] * A[2][1]) - A[0][1] * (A[1][0] * A[2][2] - A[1][2] * A[2][0]) +
+                 A[0][2] * (A[1][0] * A[2][1] - A[1][1] * A[2][0]);
+    double scale = fabs(A[0][0]) + fabs(A[1][1]) + fabs(A[2][2]);
+    if (!(fabs(det) > 1e-12 * scale * scale * scale)) return 0;
+    for (int k = 0; k < 3; k++) {
+        double M[3][3];
+        memcpy(M, A, sizeof M);
+        for (int i = 0; i < 3; i++) M[i][k] = b[i];
+        x[k] = (M[0][0] * (M[1][1] * M[2][2] - M[1][2] * M[2][1]) - M[0][1] * (M[1][0] * M[2][2] - M[1][2] * M[2][0]) +
+                M[0][2] * (M[1][0] * M[2][1] - M[1][1] * M[2][0])) /
+               det;
+    }
+    return 1;
+}
+
+hx_status hx_flow_correction(const hx_flow *fl, int bulk, int rotation, double vb[3], double K[3][3])
+{
+    const hx_flow_w *m = &fl->mass;
+    memset(K, 0, 9 * sizeof(double));
+    for (int c = 0; c < 3; c++) vb[c] = bulk ? m->v1[c] / m->w0 : 0.0;
+    if (!rotation) return HX_OK;
+    /* I_ab = sum rho (|Delta|^2 delta_ab - Delta_a Delta_b); Omega = I^-1 L; Omega x Delta = K Delta */
+    double I[3][3], L[3], W[3], tr = m->w2[0][0] + m->w2[1][1] + m->w2[2][2];
+    for (int a = 0; a < 3; a++)
+        for (int b = 0; b < 3; b++) I[a][b] = (a == b ? tr : 0.0) - m->w2[a][b];
+    angular(m, L);
+    if (!solve3(I, L, W))
+        return hx_error_set(HX_ERR_ARG, "[velocity] remove_rotation: the mass distribution has no inertia to rotate");
+    K[0][1] = -W[2], K[0][2] = W[1];
+    K[1][0] = W[2], K[1][2] = -W[0];
+    K[2][0] = -W[1], K[2][1] = W[0];
+    return HX_OK;
+}
+
+/* With g_c = vb_c + sum_a K_ca Delta_a, the corrected v''_c = v_c - g_c has
+ *   sum w v''_c   = sum w v_c - vb_c w0 - sum_a K_ca w1_a
+ *   sum w v''_c^2 = sum w v_c^2 - 2 (vb_c sum w v_c + sum_a K_ca sum w v_c Delta_a)
+ *                   + vb_c^2 w0 + 2 vb_c sum_a K_ca w1_a + sum_ab K_ca K_cb w2_ab. */
+void hx_flow_corrected(const hx_flow_w *w, const double vb[3], const double K[3][3], double s1[3], double s2[3])
+{
+    for (int c = 0; c < 3; c++) {
+        double kw1 = 0, kvx = 0, kk = 0;
+        for (int a = 0; a < 3; a++) {
+            kw1 += K[c][a] * w->w1[a];
+            kvx += K[c][a] * w->vx[c][a];
+            for (int b = 0; b < 3; b++) kk += K[c][a] * K[c][b] * w->w2[a][b];
+        }
+        s1[c] = w->v1[c] - vb[c] * w->w0 - kw1;
+        s2[c] = w->v2[c] - 2.0 * (vb[c] * w->v1[c] + kvx) + vb[c] * vb[c] * w->w0 + 2.0 * vb[c] * kw1 + kk;
+    }
+}
+
+void hx_flow_summarize(const hx_flow *fl, hx_flow_report *rep)
+{
+    const double dv = fl->cell_volume;
+    const hx_flow_w *r = &fl->region, *m = &fl->mass, *v = &fl->volume;
+    double v2 = 0, s2 = 0, lever = sqrt(m->w2[0][0] + m->w2[1][1] + m->w2[2][2]) / sqrt(m->w0); /* rms |Delta| */
+    for (int c = 0; c < 3; c++) {
+        v2 += v->v2[c];
+        s2 += r->v2[c] / r->w0 - (r->v1[c] / r->w0) * (r->v1[c] / r->w0);
+        rep->momentum[c] = m->v1[c] * dv;
+    }
+    angular(m, rep->angular);
+    for (int a = 0; a < 3; a++) rep->angular[a] *= dv;
+    rep->vrms = sqrt(v2 / v->w0);
+    rep->sigma_3d = sqrt(fmax(s2, 0.0));
+    rep->region_mass = r->w0 * dv;
+    rep->momentum_scale = m->w0 * dv * rep->vrms;
+    rep->angular_scale = m->w0 * dv * lever * rep->vrms;
+}
