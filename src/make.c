@@ -21,6 +21,7 @@
 #include "helmix/mix.h"
 #include "helmix/schema.h"
 #include "helmix/spectrum.h"
+#include "helmix/units.h"
 #include "helmix/version.h"
 
 
@@ -605,12 +606,15 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     if (r->amplitude_by == HX_AMPLITUDE_VRMS)
         hx_log_say(log, HX_LOG_INFO, "wrote %s: rms %.6g (asked %.6g), compressive share %.6f; %.2f s, peak %.1f MiB per rank",
                    r->file, R.res.vrms_x, r->vrms, R.res.fraction, R.res.t_total, (double)R.res.peak_rss / 1048576.0);
-    else
+    else {
+        char sig[48];
+        hx_units_format(sig, sizeof sig, R.res.sigma_3d * r->code.velocity, HX_QTY_VELOCITY);
         hx_log_say(log, HX_LOG_INFO,
-                   "wrote %s: sigma_3D %.6g code velocity, Mach %.6g, virial parameter %.6g (asked: %s), compressive "
-                   "share %.6f; %.2f s, peak %.1f MiB per rank",
-                   r->file, R.res.sigma_3d, R.res.mach, R.res.virial, hx_amplitude_by_name(r->amplitude_by),
-                   R.res.fraction, R.res.t_total, (double)R.res.peak_rss / 1048576.0);
+                   "wrote %s: sigma_3D %s, Mach %.6g, virial parameter %.6g (asked: %s), compressive share %.6f; "
+                   "%.2f s, peak %.1f MiB per rank",
+                   r->file, sig, R.res.mach, R.res.virial, hx_amplitude_by_name(r->amplitude_by), R.res.fraction,
+                   R.res.t_total, (double)R.res.peak_rss / 1048576.0);
+    }
     if (res_out) *res_out = R.res;
 fail:
     if (R.io) hx_io_close(&R.io, 0);

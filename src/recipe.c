@@ -512,8 +512,9 @@ static const key keys[] = {
      0, 0, 0},
     {REAL("density", "b", b, R_POS, "a number > 0"), NULL, "from the mix: b = 1 - (2/3) zeta", "0.4", NULL,
      "forcing parameter of sigma_s^2 = ln(1 + b^2 M^2)\n"
-     "Default b = 1 + (1/D - 1) zeta with D = 3 " FEDERRATH ": 1/3 for purely solenoidal, 1 for\n"
-     "purely compressive motions; with compressive_fraction, zeta is the one whose expected share it is.",
+     "Default b = 1 + (1/D - 1) zeta with D = 3 " FEDERRATH ", quoted from memory and not yet checked\n"
+     "against the paper: 1/3 for purely solenoidal and 1 for purely compressive motions (Federrath, Klessen\n"
+     "& Schmidt 2008) in between; with compressive_fraction, zeta is the one whose expected share it is.",
      0, 0, 0},
     {OTHER("density", "clumps", K_BOOL, clumps, "true or false (also yes/no, 1/0)"), "false", NULL, NULL, NULL,
      "modulate a sphere or Bonnor-Ebert cloud by a lognormal field of width sigma_s (a clumpy cloud)\n"
