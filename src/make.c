@@ -560,6 +560,10 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     HX_TRY(hx_grid_init(&R.g, r->cells, r->box, comm));
     HX_TRY(hx_error_agree(comm, hx_cloud_init(&R.cloud, r)));
     HX_TRY(hx_spectrum_create(&sp, &r->spectrum, comm));
+    double dx = fmax(r->box[0] / (double)r->cells[0], fmax(r->box[1] / (double)r->cells[1], r->box[2] / (double)r->cells[2]));
+    if (R.cloud.has_cloud && R.cloud.radius < 4.0 * dx) /* legal, but the profile is a handful of cells */
+        hx_log_say(log, HX_LOG_QUIET, "warning: the cloud radius is %.2g cells: its profile is not resolved on this grid",
+                   R.cloud.radius / dx);
     hx_log_say(log, HX_LOG_INFO, "plan: %tdx%tdx%td cells on %d rank%s, %.1f MiB complex slab per rank%s", R.g.n[0],
                R.g.n[1], R.g.n[2], R.g.size, R.g.size > 1 ? "s" : "", (double)R.g.alloc * 16.0 / 1048576.0,
                r->density_model != HX_DENSITY_NONE ? " plus one real slab for the density" : "");
