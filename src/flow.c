@@ -1,7 +1,7 @@
 /* flow.c — momentum, angular momentum, dispersions and their removal, one component at a time.
  * Invariant: every sum is a plain sum over cells (no cell volume) until hx_flow_summarize, and
- * Delta is measured from the centre of mass, so sum rho Delta = 0 and removing the bulk velocity
- * leaves the angular momentum unchanged (and removing a rotation leaves the momentum). */
+ * Delta is measured from the centre of the mass weight, so sum w Delta = 0 and removing the
+ * bulk velocity leaves the angular momentum unchanged (and removing a rotation the momentum). */
 #include "helmix/flow.h"
 
 #include <math.h>
@@ -32,10 +32,18 @@ static void add_density(hx_flow_w *w, double wt, const double d[3])
     }
 }
 
-hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const hx_cloud *cl, MPI_Comm comm)
+/* The mass weight of a cell: rho, times the window when the sums are windowed. */
+static inline double mass_weight(const hx_flow *fl, const hx_cloud *cl, double rho, const double p[3])
+{
+    return fl->windowed ? rho * hx_cloud_window(cl, dist(p, cl->center)) : rho;
+}
+
+hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const hx_cloud *cl, int windowed,
+                        MPI_Comm comm)
 {
     hx_status st = HX_OK;
     memset(fl, 0, sizeof *fl);
+    fl->windowed = windowed;
     fl->cell_volume = g->box[0] * g->box[1] * g->box[2] / (double)hx_grid_cells(g);
     double s[4] = {0, 0, 0, 0};
     for (ptrdiff_t z = 0; z < g->nz; z++)
@@ -43,6 +51,7 @@ hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const 
             for (ptrdiff_t x = 0; x < g->n[0]; x++) {
                 double p[3], r = rho ? rho[(z * g->n[1] + y) * g->n[0] + x] : 1.0;
                 centre(g, z, y, x, p);
+                r = mass_weight(fl, cl, r, p);
                 for (int a = 0; a < 3; a++) s[a] += r * p[a];
                 s[3] += r;
             }
@@ -55,7 +64,7 @@ hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const 
                 double p[3], d[3], r = rho ? rho[(z * g->n[1] + y) * g->n[0] + x] : 1.0;
                 centre(g, z, y, x, p);
                 for (int a = 0; a < 3; a++) d[a] = p[a] - fl->origin[a];
-                add_density(&fl->mass, r, d);
+                add_density(&fl->mass, mass_weight(fl, cl, r, p), d);
                 add_density(&fl->volume, 1.0, d);
                 if (hx_cloud_inside(cl, dist(p, cl->center))) add_density(&fl->region, r, d);
             }
@@ -93,7 +102,7 @@ void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const double *v, const do
                 double p[3], d[3], r = rho ? rho[i] : 1.0;
                 centre(g, z, y, x, p);
                 for (int a = 0; a < 3; a++) d[a] = p[a] - fl->origin[a];
-                add_velocity(&fl->mass, c, r, v[i], d);
+                add_velocity(&fl->mass, c, mass_weight(fl, cl, r, p), v[i], d);
                 add_velocity(&fl->volume, c, 1.0, v[i], d);
                 if (hx_cloud_inside(cl, dist(p, cl->center))) add_velocity(&fl->region, c, r, v[i], d);
             }
@@ -163,24 +172,6 @@ hx_status hx_flow_correction(const hx_flow *fl, int bulk, int rotation, double v
     K[1][0] = W[2], K[1][2] = -W[0];
     K[2][0] = -W[1], K[2][1] = W[0];
     return HX_OK;
-}
-
-/* With g_c = vb_c + sum_a K_ca Delta_a, the corrected v''_c = v_c - g_c has
- *   sum w v''_c   = sum w v_c - vb_c w0 - sum_a K_ca w1_a
- *   sum w v''_c^2 = sum w v_c^2 - 2 (vb_c sum w v_c + sum_a K_ca sum w v_c Delta_a)
- *                   + vb_c^2 w0 + 2 vb_c sum_a K_ca w1_a + sum_ab K_ca K_cb w2_ab. */
-void hx_flow_corrected(const hx_flow_w *w, const double vb[3], const double K[3][3], double s1[3], double s2[3])
-{
-    for (int c = 0; c < 3; c++) {
-        double kw1 = 0, kvx = 0, kk = 0;
-        for (int a = 0; a < 3; a++) {
-            kw1 += K[c][a] * w->w1[a];
-            kvx += K[c][a] * w->vx[c][a];
-            for (int b = 0; b < 3; b++) kk += K[c][a] * K[c][b] * w->w2[a][b];
-        }
-        s1[c] = w->v1[c] - vb[c] * w->w0 - kw1;
-        s2[c] = w->v2[c] - 2.0 * (vb[c] * w->v1[c] + kvx) + vb[c] * vb[c] * w->w0 + 2.0 * vb[c] * kw1 + kk;
-    }
 }
 
 void hx_flow_summarize(const hx_flow *fl, hx_flow_report *rep)

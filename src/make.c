@@ -340,26 +340,14 @@ static double one_pass_rms(const run_t *R)
     return hx_cloud_target_sigma(&R->cloud, r, mass);
 }
 
-/* u' = W u (window) or u sqrt(<rho>/rho) (mass weighting), in place. */
-static void shape_component(const run_t *R, double *v)
+/* The velocity as the cloud shapes it, in place: W (u - vb - K Delta) with a window, u - vb -
+ * K Delta without, u sqrt(<rho>/rho) with mass weighting (which allows no correction). Delta
+ * is measured from the origin of the sums that gave the correction. */
+static void shape_component(const run_t *R, int c, const double origin[3], const double vb[3], const double K[3][3],
+                            double *v)
 {
     const hx_grid *g = &R->g;
     int win = R->r->window, mass = R->r->weight == HX_WEIGHT_MASS;
-    if (!win && !mass) return;
-    for (ptrdiff_t z = 0; z < g->nz; z++)
-        for (ptrdiff_t y = 0; y < g->n[1]; y++)
-            for (ptrdiff_t x = 0; x < g->n[0]; x++) {
-                ptrdiff_t i = (z * g->n[1] + y) * g->n[0] + x;
-                if (win) v[i] *= hx_cloud_window(&R->cloud, cell_distance(R, z, y, x));
-                if (mass) v[i] *= sqrt(R->res.density_mean / R->rho[i]);
-            }
-}
-
-/* v = s (u' - vb - K Delta), in place. */
-static void correct_component(const run_t *R, const hx_flow *fl, int c, double s, const double vb[3],
-                              const double K[3][3], double *v)
-{
-    const hx_grid *g = &R->g;
     for (ptrdiff_t z = 0; z < g->nz; z++)
         for (ptrdiff_t y = 0; y < g->n[1]; y++)
             for (ptrdiff_t x = 0; x < g->n[0]; x++) {
@@ -367,9 +355,11 @@ static void correct_component(const run_t *R, const hx_flow *fl, int c, double s
                                ((double)y + 0.5) * g->box[1] / (double)g->n[1],
                                ((double)(g->z0 + z) + 0.5) * g->box[2] / (double)g->n[2]};
                 double k = 0;
-                for (int a = 0; a < 3; a++) k += K[c][a] * (p[a] - fl->origin[a]);
+                for (int a = 0; a < 3; a++) k += K[c][a] * (p[a] - origin[a]);
                 ptrdiff_t i = (z * g->n[1] + y) * g->n[0] + x;
-                v[i] = s * (v[i] - vb[c] - k);
+                v[i] -= vb[c] + k;
+                if (win) v[i] *= hx_cloud_window(&R->cloud, cell_distance(R, z, y, x));
+                if (mass) v[i] *= sqrt(R->res.density_mean / R->rho[i]);
             }
 }
 
@@ -381,20 +371,18 @@ static const double *as_doubles(const void *slab, hx_precision prec, int64_t n, 
     return tmp;
 }
 
-/* The scale that gives the asked amplitude to the corrected field u' - vb - K Delta. */
-static hx_status solve_scale(run_t *R, const hx_flow *fl, const double vb[3], const double K[3][3], double *scale)
+/* The scale that gives the asked amplitude to a field whose sums are in fl. */
+static hx_status solve_scale(run_t *R, const hx_flow *fl, double *scale)
 {
     const hx_recipe *r = R->r;
-    double s1[3], s2[3], have = 0, want;
+    double have = 0, want;
     if (r->amplitude_by == HX_AMPLITUDE_VRMS) {
-        hx_flow_corrected(&fl->volume, vb, K, s1, s2);
-        for (int c = 0; c < 3; c++) have += s2[c];
+        for (int c = 0; c < 3; c++) have += fl->volume.v2[c];
         have = sqrt(have / fl->volume.w0);
         want = r->vrms;
     } else {
         const hx_flow_w *w = &fl->region;
-        hx_flow_corrected(w, vb, K, s1, s2);
-        for (int c = 0; c < 3; c++) have += s2[c] / w->w0 - (s1[c] / w->w0) * (s1[c] / w->w0);
+        for (int c = 0; c < 3; c++) have += w->v2[c] / w->w0 - (w->v1[c] / w->w0) * (w->v1[c] / w->w0);
         have = sqrt(fmax(have, 0.0));
         want = hx_cloud_target_sigma(&R->cloud, r, w->w0 * fl->cell_volume);
     }
@@ -470,36 +458,46 @@ fail:
     return st;
 }
 
-/* The velocity shaped by the cloud: a measuring pass (window or mass weighting, then the sums
- * that give the bulk velocity, the rotation and the dispersion), then the writing pass with the
- * corrections and the scale applied. The draws are regenerated, so memory stays one slab. */
+/* The velocity shaped by the cloud, in passes that each regenerate the three components
+ * (memory stays one slab): with removal of bulk flow or rotation, a first pass takes the sums of
+ * the synthesised u under rho W that give the correction; a measuring pass takes the sums of the
+ * shaped field that give the scale; the writing pass writes the scaled, shaped field. */
 static hx_status velocity_shaped(run_t *R, hx_desc *dv, const hx_spectrum *sp, hx_flow *fl)
 {
     hx_status st = HX_OK;
     const hx_recipe *r = R->r;
     const hx_grid *g = &R->g;
-    double vb[3], K[3][3], scale = 1.0, t = MPI_Wtime();
+    double vb[3] = {0, 0, 0}, K[3][3] = {{0}}, origin[3] = {0, 0, 0}, scale = 1.0, t = MPI_Wtime();
+    const void *slab = NULL;
+    hx_flow sums;
     velocity_desc(r, 1.0, dv);
     HX_TRY(hx_field_mix(R->f, dv, sp));
-    hx_flow pass1 = *fl;
-    for (int c = 0; c < 3; c++) {
-        const void *slab = NULL;
-        HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
-        shape_component(R, (double *)slab);
-        hx_flow_add(&pass1, g, c, slab, R->rho, &R->cloud);
+    if (r->remove_bulk || r->remove_rotation) {
+        HX_TRY(hx_flow_begin(&sums, g, R->rho, &R->cloud, r->window, R->comm));
+        for (int c = 0; c < 3; c++) {
+            HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
+            hx_flow_add(&sums, g, c, slab, R->rho, &R->cloud);
+        }
+        HX_TRY(hx_flow_reduce(&sums, R->comm));
+        HX_TRY(hx_error_agree(R->comm, hx_flow_correction(&sums, r->remove_bulk, r->remove_rotation, vb, K)));
+        memcpy(origin, sums.origin, sizeof origin);
     }
-    HX_TRY(hx_flow_reduce(&pass1, R->comm));
-    HX_TRY(hx_error_agree(R->comm, hx_flow_correction(&pass1, r->remove_bulk, r->remove_rotation, vb, K)));
-    HX_TRY(hx_error_agree(R->comm, solve_scale(R, &pass1, vb, K, &scale)));
-    hx_log_say(R->log, HX_LOG_INFO, "velocity: measuring pass in %.2f s (bulk %.3g %.3g %.3g before scaling)",
+    HX_TRY(hx_flow_begin(&sums, g, R->rho, &R->cloud, 0, R->comm));
+    for (int c = 0; c < 3; c++) {
+        HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
+        shape_component(R, c, origin, vb, K, (double *)slab);
+        hx_flow_add(&sums, g, c, slab, R->rho, &R->cloud);
+    }
+    HX_TRY(hx_flow_reduce(&sums, R->comm));
+    HX_TRY(hx_error_agree(R->comm, solve_scale(R, &sums, &scale)));
+    hx_log_say(R->log, HX_LOG_INFO, "velocity: measuring passes in %.2f s (bulk %.3g %.3g %.3g before scaling)",
                MPI_Wtime() - t, vb[0], vb[1], vb[2]);
     for (int c = 0; c < 3; c++) {
-        const void *slab = NULL;
         t = MPI_Wtime();
         HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
         double *v = (double *)slab;
-        shape_component(R, v);
-        correct_component(R, &pass1, c, scale, vb, K, v);
+        shape_component(R, c, origin, vb, K, v);
+        for (int64_t i = 0; i < g->nz * g->n[1] * g->n[0]; i++) v[i] *= scale;
         hx_flow_add(fl, g, c, v, R->rho, &R->cloud);
         R->res.t_synth[c] = MPI_Wtime() - t;
         t = MPI_Wtime();
@@ -579,7 +577,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
         HX_TRY(hx_io_add_field(R.io, HX_FIELD_DENSITY, 1, "code_mass/code_length**3", &R.rho_id));
         HX_TRY(make_density(&R));
     }
-    HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, comm));
+    HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, 0, comm));
     R.res.as_written = shaped(r);
     if (R.res.as_written) HX_TRY(velocity_shaped(&R, &dv, sp, &fl));
     else HX_TRY(velocity_one_pass(&R, &dv, sp, &diag, &fl));

@@ -2,10 +2,11 @@
  * momentum, the mass-weighted dispersion over a cloud, the volume rms, and the bulk and rigid
  * rotation that remove net momentum and angular momentum.
  *
- * Positions are cell centres x = (i + 1/2) dx measured from `origin` (the centre of mass):
- * Delta = x - origin. Every sum is taken one component at a time, so the generator can stream
- * the components through one slab: the corrected field v - v_b - Omega x Delta has sums that
- * follow from these by linearity (hx_flow_corrected), with no second look at the data. */
+ * Positions are cell centres x = (i + 1/2) dx measured from `origin` (the centre of mass of the
+ * mass weight): Delta = x - origin. Every sum is taken one component at a time, so the
+ * generator can stream the components through one slab. With a window W the mass weight is
+ * rho W: the correction that removes the momentum of W (u - v_b - Omega x Delta) is the bulk
+ * and rotation of u under rho W, so the gas outside the window stays at rest. */
 #ifndef HELMIX_FLOW_H
 #define HELMIX_FLOW_H
 
@@ -24,14 +25,17 @@ typedef struct hx_flow_w {
 typedef struct hx_flow {
     double origin[3];
     double cell_volume;
-    hx_flow_w mass;   /* w = rho over the box                                      */
+    int windowed;     /* the mass weight is rho W (the cloud's window)              */
+    hx_flow_w mass;   /* w = rho (or rho W) over the box                           */
     hx_flow_w region; /* w = rho inside the cloud (the box without a cloud)         */
     hx_flow_w volume; /* w = 1 over the box                                        */
 } hx_flow;
 
-/* Collective: zero fl, find the centre of mass of rho (NULL: a uniform density) and take the
- * density moments of the three weights. rho holds this rank's nz * Ny * Nx values. */
-hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const hx_cloud *cl, MPI_Comm comm);
+/* Collective: zero fl, find the centre of mass of rho (NULL: a uniform density), times the
+ * cloud's window if windowed, and take the density moments of the three weights. rho holds
+ * this rank's nz * Ny * Nx values. */
+hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const hx_cloud *cl, int windowed,
+                        MPI_Comm comm);
 
 /* Add component c of this rank's values v (nz * Ny * Nx, x fastest) to the local sums. Not
  * collective; hx_flow_reduce sums over ranks. */
@@ -46,10 +50,7 @@ hx_status hx_flow_reduce(hx_flow *fl, MPI_Comm comm);
  * asked. HX_ERR_ARG when the inertia tensor is singular. */
 hx_status hx_flow_correction(const hx_flow *fl, int bulk, int rotation, double vb[3], double K[3][3]);
 
-/* Sums of the corrected field under weight w: s1[c] = sum w v''_c, s2[c] = sum w v''_c^2. */
-void hx_flow_corrected(const hx_flow_w *w, const double vb[3], const double K[3][3], double s1[3], double s2[3]);
-
-/* What a field holds (after hx_flow_reduce, with no correction): */
+/* What a field holds (after hx_flow_reduce): */
 typedef struct hx_flow_report {
     double vrms;          /* sqrt(<|v|^2>) over the box, volume-weighted                   */
     double sigma_3d;      /* mass-weighted 3D dispersion over the region about its mean      */
