@@ -31,6 +31,7 @@ struct hx_field {
     fftw_plan plan;
     double *ph[3];          /* per axis: half-cell phase exp(i pi n / N) as (re, im) pairs */
     double *kv[3];          /* per axis: wavenumber component n * lmax / L (NAN at Nyquist)  */
+    double *kd[3];          /* per axis: (2 N / L) sin(pi n / N), the staggered difference's k  */
     double kmin2, kmax2;    /* band limits, squared                                       */
     double *tab_amp, *tab_k; /* cubic boxes: amplitude and |k| by integer k^2 (else NULL)   */
     int64_t ntab;
@@ -72,6 +73,11 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags,
                     f->ph[a][2 * i] = cos(t);
                     f->ph[a][2 * i + 1] = sin(t);
                 }
+            f->kd[a] = st == HX_OK ? malloc((size_t)g->n[a] * sizeof(double)) : NULL;
+            if (st == HX_OK && !f->kd[a]) st = hx_error_set(HX_ERR_MEM, "out of memory allocating wavenumber tables");
+            else if (st == HX_OK)
+                for (ptrdiff_t i = 0; i < g->n[a]; i++)
+                    f->kd[a][i] = 2.0 * (double)g->n[a] / g->box[a] * sin(M_PI * (double)hx_grid_freq(i, g->n[a]) / (double)g->n[a]);
             f->kv[a] = st == HX_OK ? malloc((size_t)g->n[a] * sizeof(double)) : NULL;
             if (st == HX_OK && !f->kv[a]) st = hx_error_set(HX_ERR_MEM, "out of memory allocating wavenumber tables");
             else if (st == HX_OK)
@@ -319,16 +325,47 @@ fail:
 
 const hx_field_summary *hx_field_summary_get(const hx_field *f) { return f->ready ? &f->sum : NULL; }
 
+/* Component c of mode m's coefficient, from the draws w, k_hat . w and the shell factors. The
+ * whole field is A (a P_perp w + b P_par w); a part keeps one of the two terms. A face-centred
+ * component is that of the discrete curl of the potential A_hat = i k x u / k^2 on cell edges:
+ * i K x A_hat = (u (K . k) - k (K . u)) / k^2, with K_a = (2/dx_a) sin(k_a dx_a / 2) the
+ * wavenumber of the staggered difference (u solenoidal, so K = k gives u back). */
+static inline double complex coefficient(const hx_field *f, const mode_t_ *m, int c, const double complex w[3],
+                                         double complex kw, double a, double b)
+{
+    const hx_desc *d = f->d;
+    if (d->stagger == HX_STAGGER_CELL) {
+        if (d->part == HX_PART_SOLENOIDAL) return m->amp * (a * (w[c] - m->khat[c] * kw));
+        if (d->part == HX_PART_COMPRESSIVE) return m->amp * (b * m->khat[c] * kw);
+        return m->amp * (a * w[c] + (b - a) * m->khat[c] * kw); /* this order keeps earlier files bit for bit */
+    }
+    const hx_grid *g = &f->g;
+    double K[3] = {f->kd[0][m->n[0]], f->kd[1][m->n[1] < 0 ? m->n[1] + g->n[1] : m->n[1]],
+                   f->kd[2][m->n[2] < 0 ? m->n[2] + g->n[2] : m->n[2]]};
+    double kp = m->k * 2.0 * M_PI / g->lmax, kk = 0; /* physical |k|, K . k_hat */
+    double complex u[3], ku = 0;
+    for (int j = 0; j < 3; j++) {
+        u[j] = m->amp * (a * w[j] + (b - a) * m->khat[j] * kw);
+        kk += K[j] * m->khat[j];
+        ku += K[j] * u[j];
+    }
+    return (u[c] * kk - m->khat[c] * ku) / kp;
+}
+
 /* Write component c of every local mode into the slab (transposed layout y, z, x); with
- * sums, also add every mode's energies to the local shell sums. */
+ * sums, also add every mode's energies to the local shell sums. Cell-centred values get the
+ * half-cell phase on every axis; a face-centred component c on every axis but c. */
 static double fill(hx_field *f, int c, int sums)
 {
     const hx_grid *g = &f->g;
+    int face = f->d->stagger == HX_STAGGER_FACE;
     double power = 0; /* sum over both halves of |u_c|^2: the variance of component c */
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
         for (ptrdiff_t z = 0; z < g->n[2]; z++) {
             double complex *row = (double complex *)f->data + ((y - g->y0) * g->n[2] + z) * g->nxc;
-            double complex pyz = (f->ph[1][2 * y] + I * f->ph[1][2 * y + 1]) * (f->ph[2][2 * z] + I * f->ph[2][2 * z + 1]);
+            double complex py = face && c == 1 ? 1.0 : f->ph[1][2 * y] + I * f->ph[1][2 * y + 1];
+            double complex pz = face && c == 2 ? 1.0 : f->ph[2][2 * z] + I * f->ph[2][2 * z + 1];
+            double complex pyz = py * pz;
             memset(row, 0, (size_t)g->nxc * sizeof *row);
             int n = row_modes(f, y, z);
             for (int i = 0; i < n; i++) {
@@ -337,9 +374,9 @@ static double fill(hx_field *f, int c, int sums)
                 double complex w[3], kw;
                 draws_of(f, i, w, &kw);
                 if (sums) accumulate(f->loc, f->nshell, m, w, kw);
-                double a = f->a[m->shell], b = f->b[m->shell];
-                double complex u = m->amp * (a * w[c] + (b - a) * m->khat[c] * kw);
-                row[x] = u * pyz * (f->ph[0][2 * x] + I * f->ph[0][2 * x + 1]);
+                double complex u = coefficient(f, m, c, w, kw, f->a[m->shell], f->b[m->shell]);
+                double complex px = face && c == 0 ? 1.0 : f->ph[0][2 * x] + I * f->ph[0][2 * x + 1];
+                row[x] = u * pyz * px;
                 power += m->weight * creal(u * conj(u));
             }
         }
@@ -417,6 +454,7 @@ void hx_field_destroy(hx_field **f)
     for (int a = 0; a < 3; a++) {
         free((*f)->ph[a]);
         free((*f)->kv[a]);
+        free((*f)->kd[a]);
     }
     free((*f)->tab_amp);
     free((*f)->tab_k);

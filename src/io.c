@@ -6,6 +6,7 @@
 #include "helmix/io.h"
 
 #include <hdf5.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -21,6 +22,7 @@
 typedef struct io_field {
     char name[32];
     int ncomp;
+    int face; /* staggering: 0 cell centres, 1 low faces */
     char unit[64];
     hid_t dset[3];
 } io_field;
@@ -182,13 +184,13 @@ fail:
     return st;
 }
 
-hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *unit, int *id)
+hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *unit, int face, int *id)
 {
     hx_status st = HX_OK;
     hid_t grp = -1, types = -1, space = -1, sg = -1;
     hsize_t dims[3] = {(hsize_t)w->g.n[2], (hsize_t)w->g.n[1], (hsize_t)w->g.n[0]};
     hid_t ftype = w->prec == HX_PREC_DOUBLE ? H5T_IEEE_F64LE : H5T_IEEE_F32LE;
-    int32_t zero = 0;
+    int32_t stag = face ? 1 : 0;
     if (w->nfield == HX_IO_MAX_FIELDS || (ncomp != 1 && ncomp != 3) || strlen(name) >= sizeof w->field[0].name ||
         strlen(unit) >= sizeof w->field[0].unit)
         HX_FAIL(HX_ERR_ARG, "cannot add field '%s' with %d components (at most %d fields)", name, ncomp,
@@ -197,6 +199,7 @@ hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *uni
     snprintf(fd->name, sizeof fd->name, "%s", name);
     snprintf(fd->unit, sizeof fd->unit, "%s", unit);
     fd->ncomp = ncomp;
+    fd->face = face;
     for (int c = 0; c < 3; c++) fd->dset[c] = -1;
     w->nfield++; /* from here on hx_io_close closes whatever was created */
     HX_H5(grp, group_open(w, HX_SCHEMA_GRID));
@@ -209,7 +212,7 @@ hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *uni
         HX_H5(sg, H5Gcreate2(types, comp, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
         HX_TRY(fixed_str_attr(sg, "field_name", comp));
         HX_TRY(fixed_str_attr(sg, "field_units", unit));
-        HX_TRY(attr_write(sg, "staggering", H5T_STD_I32LE, H5T_NATIVE_INT32, &zero, 0));
+        HX_TRY(attr_write(sg, "staggering", H5T_STD_I32LE, H5T_NATIVE_INT32, &stag, 0));
         H5Gclose(sg);
         sg = -1;
     }
@@ -248,6 +251,9 @@ hx_status hx_io_units(hx_io *w, double length_cm, double mass_g, double time_s)
     HX_TRY(unit_dataset(w, grp, "mass_unit", mass_g, "g"));
     HX_TRY(unit_dataset(w, grp, "time_unit", time_s, "s"));
     HX_TRY(unit_dataset(w, grp, "velocity_unit", length_cm / time_s, "cm/s"));
+    /* Gaussian code magnetic unit sqrt(4 pi rho_u) v_u: v_A = B / sqrt(rho) in code units */
+    HX_TRY(unit_dataset(w, grp, "magnetic_unit", sqrt(4.0 * M_PI * mass_g / (length_cm * length_cm * length_cm)) * length_cm / time_s,
+                        "gauss"));
 fail:
     if (grp >= 0) H5Gclose(grp);
     return st;
@@ -450,6 +456,7 @@ static hx_status write_xdmf(const hx_io *w)
     for (int i = 0; i < w->nfield; i++) {
         const io_field *fd = &w->field[i];
         char comp[64];
+        if (fd->face) continue; /* staggered fields get grids of their own, below */
         if (fd->ncomp == 3) {
             fprintf(fp, "   <Attribute Name=\"%s\" AttributeType=\"Vector\" Center=\"Cell\">\n", fd->name);
             fprintf(fp, "    <DataItem ItemType=\"Function\" Function=\"JOIN($0, $1, $2)\" Dimensions=\"%td %td %td 3\">\n",
@@ -467,7 +474,31 @@ static hx_status write_xdmf(const hx_io *w)
             fprintf(fp, "   </Attribute>\n");
         }
     }
-    fprintf(fp, "  </Grid>\n </Domain>\n</Xdmf>\n");
+    fprintf(fp, "  </Grid>\n");
+    /* A face-centred component c sits at cell centres of a grid shifted by -dx_c / 2 along c. */
+    for (int i = 0; i < w->nfield; i++) {
+        const io_field *fd = &w->field[i];
+        if (!fd->face) continue;
+        for (int c = 0; c < fd->ncomp; c++) {
+            char comp[64];
+            double origin[3] = {0, 0, 0}; /* x, y, z */
+            origin[c] = -0.5 * g->box[c] / (double)g->n[c];
+            hx_schema_component(comp, sizeof comp, fd->name, fd->ncomp, c);
+            fprintf(fp, "  <Grid Name=\"%s\" GridType=\"Uniform\">\n", comp);
+            fprintf(fp, "   <Topology TopologyType=\"3DCoRectMesh\" Dimensions=\"%td %td %td\"/>\n", g->n[2] + 1,
+                    g->n[1] + 1, g->n[0] + 1);
+            fprintf(fp, "   <Geometry GeometryType=\"ORIGIN_DXDYDZ\">\n");
+            fprintf(fp, "    <DataItem Format=\"XML\" Dimensions=\"3\">%.17g %.17g %.17g</DataItem>\n", origin[2],
+                    origin[1], origin[0]);
+            fprintf(fp, "    <DataItem Format=\"XML\" Dimensions=\"3\">%.17g %.17g %.17g</DataItem>\n",
+                    g->box[2] / (double)g->n[2], g->box[1] / (double)g->n[1], g->box[0] / (double)g->n[0]);
+            fprintf(fp, "   </Geometry>\n");
+            fprintf(fp, "   <Attribute Name=\"%s\" AttributeType=\"Scalar\" Center=\"Cell\">\n", comp);
+            xdmf_item(fp, w, base, comp, "    ");
+            fprintf(fp, "   </Attribute>\n  </Grid>\n");
+        }
+    }
+    fprintf(fp, " </Domain>\n</Xdmf>\n");
     if (fclose(fp) != 0) return hx_error_set(HX_ERR_IO, "cannot finish writing %s", xmf);
     return HX_OK;
 }

@@ -203,6 +203,19 @@ static hx_status write_state(hx_io *io, const hx_recipe *r, const hx_cloud *cl, 
     HX_TRY(hx_io_attr_doubles(io, G, "angular_momentum_relative", &res->angular_rel, 0));
     int64_t flags[3] = {r->window, r->remove_bulk, r->remove_rotation};
     HX_TRY(hx_io_attr_int64s(io, G, "window_bulk_rotation", flags, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_b0", res->b0, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_random_rms", &res->b_random_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_rms", &res->b_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_face_rms", &res->b_face_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "beta", &res->beta, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "alfven_mach", &res->alfven_mach, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "beta_asked", r->magnetic_by == HX_MAGNETIC_BETA ? &r->beta : &nan, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "alfven_mach_asked", r->magnetic_by == HX_MAGNETIC_ALFVEN ? &r->alfven_mach : &nan, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, "unit_magnetic_gauss", &u->magnetic, 0));
+    HX_TRY(hx_io_attr_string(io, G, "magnetic_face_convention",
+                             "magnetic_face_c[k][j][i] lies on the low-c face of cell (i, j, k): at x_c = i dx_c, the "
+                             "other two coordinates at cell centres; it is the discrete curl of a vector potential on "
+                             "cell edges, so sum_c (B_c[i_c + 1] - B_c[i_c]) / dx_c = 0 (periodic)"));
     HX_TRY(hx_io_attr_string(io, G, "density_model", hx_density_model_name(r->density_model)));
     if (r->density_model == HX_DENSITY_NONE) return HX_OK;
     HX_TRY(hx_io_attr_doubles(io, G, "density_mean", &res->density_mean, 0));
@@ -232,13 +245,13 @@ fail:
 static void velocity_desc(const hx_recipe *r, double rms, hx_desc *d)
 {
     *d = (hx_desc){HX_FIELD_VELOCITY, 3, "code_length/code_time", r->spectrum, r->mix, rms, r->seed,
-                   HX_STREAM_VELOCITY, r->amplitudes, r->flip};
+                   HX_STREAM_VELOCITY, r->amplitudes, r->flip, HX_PART_ALL, HX_STAGGER_CELL};
 }
 
 static void log_density_desc(const hx_recipe *r, hx_desc *d)
 {
     *d = (hx_desc){"log_density", 1, "dimensionless", r->density_spectrum, {HX_MIX_FRACTION, NAN, 0.0, HX_EXACT_TOTAL},
-                   r->sigma_s, r->seed, HX_STREAM_DENSITY, HX_AMP_GAUSSIAN, 0};
+                   r->sigma_s, r->seed, HX_STREAM_DENSITY, HX_AMP_GAUSSIAN, 0, HX_PART_ALL, HX_STAGGER_CELL};
 }
 
 /* Everything a run carries between its phases. */
@@ -511,6 +524,59 @@ fail:
     return st;
 }
 
+/* The magnetic field: B0 from its strength, plasma beta or Alfven Mach number (code units:
+ * beta = 2 P / B0^2 with P = <rho> c_s^2 / gamma, v_A = B0 / sqrt(<rho>)), plus a random part that
+ * is purely solenoidal (mix share 0, exact) on its own stream; cell-centred and, with faces, the
+ * discrete curl of the same potential on a staggered grid. Each component goes through the one
+ * slab and is written with B0 added. */
+static hx_status make_magnetic(run_t *R, const hx_spectrum *sp, int cell_id, int face_id)
+{
+    hx_status st = HX_OK;
+    const hx_recipe *r = R->r;
+    const hx_grid *g = &R->g;
+    hx_make_result *res = &R->res;
+    double rho = R->rho ? res->density_mean : (r->density_model == HX_DENSITY_NONE ? 1.0 : res->density_mean);
+    double P = rho * r->code.sound_speed * r->code.sound_speed / r->gamma, b0 = 0;
+    switch (r->magnetic_by) {
+    case HX_MAGNETIC_STRENGTH: b0 = r->b_strength.value; break;
+    case HX_MAGNETIC_BETA: b0 = sqrt(2.0 * P / r->beta); break;
+    case HX_MAGNETIC_ALFVEN: b0 = res->sigma_3d * sqrt(rho) / r->alfven_mach; break;
+    default: b0 = 0;
+    }
+    double brms = !isnan(r->random_ratio) ? r->random_ratio * b0 : !isnan(r->random_rms.value) ? r->random_rms.value : 0.0;
+    for (int c = 0; c < 3; c++) res->b0[c] = b0 * r->direction[c];
+    res->b_random_rms = brms;
+    res->beta = b0 > 0 ? 2.0 * P / (b0 * b0) : INFINITY;
+    res->alfven_mach = b0 > 0 ? res->sigma_3d * sqrt(rho) / b0 : INFINITY;
+    hx_desc db = {HX_FIELD_MAGNETIC, 3, "code_magnetic", r->magnetic_spectrum, {HX_MIX_FRACTION, NAN, 0.0, HX_EXACT_TOTAL},
+                  brms, r->seed, HX_STREAM_MAGNETIC, HX_AMP_GAUSSIAN, 0, HX_PART_ALL, HX_STAGGER_CELL};
+    hx_spectrum_spec none = r->spectrum; /* no random part: any band, scaled to rms 0 */
+    if (!(brms > 0)) db.spectrum = none;
+    int64_t n = g->nz * g->n[1] * g->n[0];
+    for (int pass = 0; pass < 1 + (face_id >= 0); pass++) {
+        double t = MPI_Wtime(), s2 = 0;
+        db.stagger = pass ? HX_STAGGER_FACE : HX_STAGGER_CELL;
+        HX_TRY(hx_field_mix(R->f, &db, sp));
+        for (int c = 0; c < 3; c++) {
+            const void *slab = NULL;
+            HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
+            double *v = (double *)slab;
+            for (int64_t i = 0; i < n; i++) {
+                v[i] += res->b0[c];
+                s2 += v[i] * v[i];
+            }
+            HX_TRY(hx_io_write_doubles(R->io, pass ? face_id : cell_id, c, v));
+        }
+        HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &s2, 1, MPI_DOUBLE, MPI_SUM, R->comm));
+        *(pass ? &res->b_face_rms : &res->b_rms) = sqrt(s2 / (double)hx_grid_cells(g));
+        hx_log_say(R->log, HX_LOG_INFO, "%s: |B0| %.4g, random rms %.4g, rms %.6g code magnetic; %.2f s",
+                   pass ? HX_FIELD_MAGNETIC_FACE : HX_FIELD_MAGNETIC, b0, brms, pass ? res->b_face_rms : res->b_rms,
+                   MPI_Wtime() - t);
+    }
+fail:
+    return st;
+}
+
 /* The summary of the field as written, measured by inspect's own analysis of the partial file
  * (the window and the corrections mix modes, so the k-space sums no longer describe it). */
 static hx_status analyse_written(run_t *R, hx_diag *diag)
@@ -572,15 +638,27 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
 
     HX_TRY(hx_io_create(&R.io, r->file, &R.g, r->precision, comm));
     HX_TRY(hx_io_units(R.io, r->code.length, r->code.mass, r->code.time));
-    HX_TRY(hx_io_add_field(R.io, HX_FIELD_VELOCITY, 3, "code_length/code_time", &R.vel_id));
+    HX_TRY(hx_io_add_field(R.io, HX_FIELD_VELOCITY, 3, "code_length/code_time", 0, &R.vel_id));
     if (r->density_model != HX_DENSITY_NONE) {
-        HX_TRY(hx_io_add_field(R.io, HX_FIELD_DENSITY, 1, "code_mass/code_length**3", &R.rho_id));
+        HX_TRY(hx_io_add_field(R.io, HX_FIELD_DENSITY, 1, "code_mass/code_length**3", 0, &R.rho_id));
         HX_TRY(make_density(&R));
     }
     HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, 0, comm));
     R.res.as_written = shaped(r);
     if (R.res.as_written) HX_TRY(velocity_shaped(&R, &dv, sp, &fl));
     else HX_TRY(velocity_one_pass(&R, &dv, sp, &diag, &fl));
+    for (int c = 0; c < 3; c++) R.res.b0[c] = NAN;
+    R.res.b_random_rms = R.res.b_rms = R.res.b_face_rms = R.res.beta = R.res.alfven_mach = NAN;
+    if (hx_recipe_has_magnetic(r)) {
+        hx_spectrum *spb = NULL;
+        int cell_id = -1, face_id = -1;
+        st = hx_io_add_field(R.io, HX_FIELD_MAGNETIC, 3, "code_magnetic", 0, &cell_id);
+        if (st == HX_OK && r->faces) st = hx_io_add_field(R.io, HX_FIELD_MAGNETIC_FACE, 3, "code_magnetic", 1, &face_id);
+        if (st == HX_OK) st = hx_spectrum_create(&spb, (int)r->magnetic_spectrum.shape >= 0 ? &r->magnetic_spectrum : &r->spectrum, comm);
+        if (st == HX_OK) st = make_magnetic(&R, spb, cell_id, face_id);
+        hx_spectrum_destroy(&spb);
+        HX_TRY(st);
+    }
 
     const hx_field_summary *sum = hx_field_summary_get(R.f);
     R.res.fraction = sum->fraction;

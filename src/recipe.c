@@ -131,7 +131,8 @@ typedef enum {
     K_TRI,    /* int -1 (auto) / 0 / 1                                                 */
     K_SEED,   /* uint64_t                                                             */
     K_PATH,   /* char[HX_PATH_MAX]                                                    */
-    K_SHARE   /* double in [0, 1], exclusive with the share at `partner`                */
+    K_SHARE,  /* double in [0, 1], exclusive with the share at `partner`                */
+    K_AXIS    /* double[3]: x, y, z or three finite numbers                             */
 } kind_t;
 
 typedef enum { R_ANY = 0, R_POS, R_NONNEG, R_SHARE, R_GT1, R_GE1 } range_t;
@@ -161,6 +162,7 @@ static const char *const prec_names[] = {"single", "double", NULL};
 static const char *const model_names[] = {"none", "uniform", "sphere", "bonnor-ebert", "lognormal", NULL};
 static const char *const weight_names[] = {"volume", "mass", NULL};
 static const char *const by_names[] = {"vrms", "mach", "virial", "linewidth", NULL};
+static const char *const axis_names[] = {"x", "y", "z", NULL};
 
 static int in_range(double x, range_t r)
 {
@@ -255,6 +257,15 @@ static const char *parse_value(const key *k, hx_recipe *r, const char *v)
         if (strlen(v) >= HX_PATH_MAX) return "path must be shorter than 4096 characters";
         strcpy((char *)dst, v);
         return NULL;
+    case K_AXIS: {
+        double d[3] = {0, 0, 0};
+        int a = read_enum(v, axis_names);
+        if (a >= 0) d[a] = 1.0;
+        else if (!read_reals3(v, d)) return rule_of(k);
+        if (!(d[0] != 0 || d[1] != 0 || d[2] != 0)) return rule_of(k);
+        memcpy(dst, d, sizeof d);
+        return NULL;
+    }
     case K_SHARE: {
         double x;
         const double *other = (const double *)((const char *)r + k->partner);
@@ -280,7 +291,8 @@ static int show_value(const key *k, const hx_recipe *r, char *buf, size_t n)
         else snprintf(buf, n, "%" PRId64 " %" PRId64 " %" PRId64, c[0], c[1], c[2]);
         return 1;
     }
-    case K_BOX: {
+    case K_BOX:
+    case K_AXIS: {
         const double *x = src;
         char b[3][32];
         for (int i = 0; i < 3; i++) format_real(b[i], sizeof b[i], x[i]);
@@ -334,8 +346,8 @@ static int show_value(const key *k, const hx_recipe *r, char *buf, size_t n)
 #define OTHER(sec, nm, kind, field, type) sec, nm, kind, AT(field), NULL, 0, R_ANY, type
 
 /* The spectrum keys, the same for every section that describes a spectrum. */
-#define SPECTRUM_KEYS(sec, spec, what, kmin_def)                                                              \
-    {ENUM(sec, "shape", spec.shape, shape_names, "one of power, band, table"), "power", NULL, NULL, NULL,      \
+#define SPECTRUM_KEYS(sec, spec, what, kmin_def, shape_def, shape_note)                                     \
+    {ENUM(sec, "shape", spec.shape, shape_names, "one of power, band, table"), shape_def, shape_note, "power", NULL, \
      "form of the shell-integrated spectrum E(k) of " what ", zero outside [kmin, kmax]\n"                   \
      "power: E ~ k^-slope; band: E ~ (k - kmin)(kmax - k), a smooth hump vanishing at both ends;\n"          \
      "table: E from the (k, E) rows of the table key, interpolated linearly in log k - log E.",             \
@@ -391,7 +403,7 @@ static const key keys[] = {
      NULL, "none (density is used)", "1 Msun", "g when bare",
      "the code mass unit instead of density: code density = mass / length^3", 0, 0, 0},
 
-    SPECTRUM_KEYS("spectrum", spectrum, "the kinetic energy", "1"),
+    SPECTRUM_KEYS("spectrum", spectrum, "the kinetic energy", "1", "power", NULL),
 
     {OTHER("mix", "zeta", K_SHARE, mix.zeta, "a number in [0, 1]"), NULL, "0.5 unless compressive_fraction is given",
      "0.5", NULL,
@@ -521,7 +533,39 @@ static const key keys[] = {
      "The cloud keeps its mass exactly; the ambient medium is not modulated.",
      0, 0, 0},
 
-    SPECTRUM_KEYS("density_spectrum", density_spectrum, "s = ln(rho / rho_0)", "1"),
+    SPECTRUM_KEYS("density_spectrum", density_spectrum, "s = ln(rho / rho_0)", "1", "power", NULL),
+
+    {QTY("magnetic", "strength", b_strength, HX_QTY_MAGNETIC, R_NONNEG, "a magnetic field >= 0, e.g. 10 uG"), NULL,
+     "none", "10 uG", "code magnetic when bare",
+     "strength |B0| of the uniform field; give one of strength, beta, alfven_mach (or none: random part only)\n"
+     "Gaussian units (NRL Plasma Formulary); the code magnetic unit is sqrt(4 pi [units] density) [units]\n"
+     "velocity, so that v_A = B / sqrt(rho) and beta = 2 P / B^2 in code units.",
+     0, 0, 0},
+    {REAL("magnetic", "beta", beta, R_POS, "a number > 0"), NULL, "none", "0.1", NULL,
+     "plasma beta of the uniform field, 8 pi P / B0^2 with P = <rho> k_B T / (mu m_H) from [gas]\n"
+     "<rho> is the volume mean of the [density] model (1 code density without one).",
+     0, 0, 0},
+    {REAL("magnetic", "alfven_mach", alfven_mach, R_POS, "a number > 0"), NULL, "none", "1", NULL,
+     "Alfven Mach number of the uniform field, sigma_3D / v_A with v_A = B0 / sqrt(4 pi <rho>)\n"
+     "sigma_3D is the 3D velocity dispersion as written (the one [amplitude] sets), so this Mach number is 3D.",
+     0, 0, 0},
+    {OTHER("magnetic", "direction", K_AXIS, direction, "x, y, z or three numbers \"ax ay az\" (not all 0)"), "0 0 1",
+     NULL, NULL, NULL, "direction of the uniform field (normalised); x, y, z name the axes", 0, 0, 0},
+    {REAL("magnetic", "random_ratio", random_ratio, R_NONNEG, "a number >= 0"), NULL, "0 (no random part)", "0.5",
+     NULL,
+     "rms of the random solenoidal part over |B0|; give random_ratio or random_rms\n"
+     "The random part has its own spectrum ([magnetic_spectrum], whose shape must be given) and random stream.",
+     0, 0, 0},
+    {QTY("magnetic", "random_rms", random_rms, HX_QTY_MAGNETIC, R_NONNEG, "a magnetic field >= 0"), NULL,
+     "none", "3 uG", "code magnetic when bare", "rms of the random part itself (instead of random_ratio)", 0, 0, 0},
+    {OTHER("magnetic", "faces", K_BOOL, faces, "true or false (also yes/no, 1/0)"), "true", NULL, NULL, NULL,
+     "also write magnetic_face_x|y|z: the face-centred field of a staggered (constrained-transport) grid\n"
+     "It is the discrete curl of a vector potential on cell edges, so its discrete divergence vanishes to\n"
+     "round-off; magnetic_face_x[k][j][i] sits on the low-x face of cell (i, j, k), at x = i dx.",
+     0, 0, 0},
+
+    SPECTRUM_KEYS("magnetic_spectrum", magnetic_spectrum, "the random magnetic field", "1", NULL,
+                  "none: a random part needs it"),
 
     {OTHER("random", "seed", K_SEED, seed, "a whole number in [0, 18446744073709551615]"), "1", NULL, NULL, NULL,
      "seed of the random draws\n"
@@ -667,6 +711,7 @@ void hx_recipe_defaults(hx_recipe *r)
     r->mix.mode = HX_MIX_ZETA;
     r->mix.exact = EXACT_UNSET;
     r->remove_bulk = -1;
+    r->magnetic_spectrum.shape = (hx_shape)-1; /* a random field must say what its spectrum is */
 }
 
 /* inih hands us one line per reader call, so the count of reader calls is the line number
@@ -980,6 +1025,7 @@ static hx_status check_units(hx_recipe *r)
     u->mass = u->density * u->length * u->length * u->length;
     u->time = u->length / u->velocity;
     u->G = HX_CGS_G * u->density * u->length * u->length / (u->velocity * u->velocity);
+    u->magnetic = sqrt(4.0 * M_PI * u->density) * u->velocity;
     if (!(isfinite(u->density) && u->density > 0 && isfinite(u->mass) && u->mass > 0 && isfinite(u->G) && u->G > 0))
         return invalid(r, "units", "length", "the code units overflow double precision: choose units nearer the problem");
     for (int i = 0; i < NKEYS; i++) {
@@ -992,6 +1038,7 @@ static hx_status check_units(hx_recipe *r)
                      : k->qty == HX_QTY_DENSITY  ? u->density
                      : k->qty == HX_QTY_MASS     ? u->mass
                      : k->qty == HX_QTY_TIME     ? u->time
+                     : k->qty == HX_QTY_MAGNETIC ? u->magnetic
                                                  : 1.0; /* temperature stays in K */
         q->value /= per;
         q->unit = 0;
@@ -1073,6 +1120,36 @@ static hx_status check_density(hx_recipe *r)
     return HX_OK;
 }
 
+static hx_status check_magnetic(hx_recipe *r)
+{
+    int given[3] = {!isnan(r->b_strength.value), !isnan(r->beta), !isnan(r->alfven_mach)}, n = 0;
+    static const char *const names[3] = {"strength", "beta", "alfven_mach"};
+    for (int i = 0; i < 3; i++)
+        if (given[i] && n++)
+            return invalid(r, "magnetic", names[i], "give one of strength, beta, alfven_mach for the uniform field");
+    if (!isnan(r->random_ratio) && !isnan(r->random_rms.value))
+        return invalid(r, "magnetic", "random_rms", "give random_ratio or random_rms, not both");
+    int random = (!isnan(r->random_ratio) && r->random_ratio > 0) || (!isnan(r->random_rms.value) && r->random_rms.value > 0);
+    double d = sqrt(r->direction[0] * r->direction[0] + r->direction[1] * r->direction[1] + r->direction[2] * r->direction[2]);
+    if (!(d > 0) || !isfinite(d)) return invalid(r, "magnetic", "direction", "must not be zero or NaN");
+    for (int a = 0; a < 3; a++) r->direction[a] /= d;
+    r->magnetic_by = given[0] ? HX_MAGNETIC_STRENGTH : given[1] ? HX_MAGNETIC_BETA : given[2] ? HX_MAGNETIC_ALFVEN
+                     : random ? HX_MAGNETIC_RANDOM_ONLY : HX_MAGNETIC_NONE;
+    if (!isnan(r->random_ratio) && r->random_ratio > 0 && (r->magnetic_by == HX_MAGNETIC_RANDOM_ONLY))
+        return invalid(r, "magnetic", "random_ratio", "a ratio to |B0| needs a uniform field: give strength, beta or "
+                                                      "alfven_mach, or the random part's own random_rms");
+    if (random) {
+        if ((int)r->magnetic_spectrum.shape < 0)
+            return invalid(r, "magnetic_spectrum", "shape",
+                           "a random magnetic part needs its spectrum: set [magnetic_spectrum] shape (and slope, kmin, kmax)");
+        hx_status st = check_spectrum(r, "magnetic_spectrum", &r->magnetic_spectrum);
+        if (st != HX_OK) return st;
+    }
+    return HX_OK;
+}
+
+int hx_recipe_has_magnetic(const hx_recipe *r) { return r->magnetic_by != HX_MAGNETIC_NONE; }
+
 static hx_status check_rest(const hx_recipe *r)
 {
     if (r->amplitudes != HX_AMP_GAUSSIAN && r->amplitudes != HX_AMP_FIXED)
@@ -1096,6 +1173,7 @@ hx_status hx_recipe_validate(hx_recipe *r)
     if (st == HX_OK) st = check_mix(&work);
     if (st == HX_OK) st = check_amplitude(&work);
     if (st == HX_OK) st = check_density(&work);
+    if (st == HX_OK) st = check_magnetic(&work);
     if (st == HX_OK) st = check_rest(&work);
     if (st == HX_OK) *r = work;
     return st;

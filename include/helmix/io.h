@@ -29,8 +29,10 @@ hx_status hx_io_create(hx_io **w, const char *path, const hx_grid *g, hx_precisi
 
 /* Collective: add field `name` with ncomp (1 or 3) datasets of shape (Nz, Ny, Nx), named by
  * hx_schema_component, whose values are in `unit` (yt's spelling, e.g. "code_length/code_time");
+ * face = 1 marks a face-centred field (component c on the low-c face of each cell: the Grid
+ * Data Format's staggering 1, and in the XDMF sidecar a grid shifted by half a cell along c).
  * *id identifies it for writing. */
-hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *unit, int *id);
+hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *unit, int face, int *id);
 
 /* Collective: the code units, in cgs, as yt's Grid Data Format reader takes them. */
 hx_status hx_io_units(hx_io *w, double length_cm, double mass_g, double time_s);

@@ -36,6 +36,11 @@ typedef struct hx_make_result {
     double momentum[3], angular[3];  /* net, over the box, code units                       */
     double momentum_rel, angular_rel;/* |P| / (M vrms), |L| / (M <|Delta|^2>^1/2 vrms)       */
     double density_mean, sigma_s_written; /* volume mean of rho; std of ln rho              */
+    /* the magnetic field as written (code magnetic units; NAN without one) */
+    double b0[3];          /* the uniform field                                            */
+    double b_random_rms;   /* rms of the random part, cell-centred (k-space, exact)          */
+    double b_rms, b_face_rms; /* rms of |B| over the box, cell-centred and face-centred       */
+    double beta, alfven_mach; /* of the uniform field: 2 P / B0^2, sigma_3d sqrt(<rho>) / B0  */
 } hx_make_result;
 
 /* Collective: generate the cube of validated recipe r into r->file (replacing an existing

@@ -22,9 +22,11 @@ typedef enum { HX_DENSITY_NONE = 0, HX_DENSITY_UNIFORM, HX_DENSITY_SPHERE, HX_DE
                HX_DENSITY_LOGNORMAL } hx_density_model;
 typedef enum { HX_WEIGHT_VOLUME = 0, HX_WEIGHT_MASS } hx_weight;
 typedef enum { HX_AMPLITUDE_VRMS = 0, HX_AMPLITUDE_MACH, HX_AMPLITUDE_VIRIAL, HX_AMPLITUDE_LINEWIDTH } hx_amplitude_by;
+typedef enum { HX_MAGNETIC_NONE = 0, HX_MAGNETIC_STRENGTH, HX_MAGNETIC_BETA, HX_MAGNETIC_ALFVEN,
+               HX_MAGNETIC_RANDOM_ONLY } hx_magnetic_by;
 
 #define HX_PATH_MAX 4096
-#define HX_RECIPE_MAX_KEYS 64
+#define HX_RECIPE_MAX_KEYS 80
 
 /* A shell-integrated spectrum E(k), zero outside [kmin, kmax] (units of 2 pi / max L). */
 typedef struct hx_spectrum_spec {
@@ -54,6 +56,8 @@ typedef struct hx_quantity {
  * code units. */
 typedef struct hx_code_units {
     double length, velocity, density; /* cm, cm/s, g/cm^3 per code unit                   */
+    double magnetic;                  /* gauss per code unit: sqrt(4 pi density) velocity, so
+                                       * v_A = B / sqrt(rho) and beta = 2 P / B^2 in code units */
     double mass, time;                /* g and s per code unit (density * length^3, length / velocity) */
     double G;                         /* gravitational constant in code units             */
     double sound_speed;               /* c_s = sqrt(gamma k_B T / (mu m_H)), code velocity */
@@ -101,6 +105,17 @@ typedef struct hx_recipe {
     int clumps;                  /* modulate sphere / bonnor-ebert by a lognormal field       */
     /* [density_spectrum] the spectrum of s = ln(rho / rho_0) */
     hx_spectrum_spec density_spectrum;
+    /* [magnetic]: a uniform B0 (by strength, beta or alfven_mach) plus a random solenoidal part */
+    hx_quantity b_strength;      /* |B0| in gauss (unit) or code magnetic units               */
+    double beta;                 /* plasma beta of B0: 8 pi P / B0^2                           */
+    double alfven_mach;          /* sigma_3D / v_A, v_A = B0 / sqrt(4 pi <rho>)                 */
+    double direction[3];         /* unit vector of B0 (normalised by validation)               */
+    double random_ratio;         /* rms of the random part over |B0|                           */
+    hx_quantity random_rms;      /* or the rms of the random part itself                        */
+    int faces;                   /* also write the face-centred field of a staggered grid        */
+    hx_magnetic_by magnetic_by;  /* derived: how B0 was given (HX_MAGNETIC_NONE: no field)        */
+    /* [magnetic_spectrum] the spectrum of the random part */
+    hx_spectrum_spec magnetic_spectrum;
     /* [random] */
     uint64_t seed;
     hx_amplitudes amplitudes;
@@ -152,6 +167,9 @@ const char *hx_shape_name(hx_shape s);
 const char *hx_exact_name(hx_exact e);
 const char *hx_density_model_name(hx_density_model m);
 const char *hx_amplitude_by_name(hx_amplitude_by a);
+
+/* 1 when a validated recipe asks for a magnetic field (uniform, random or both). */
+int hx_recipe_has_magnetic(const hx_recipe *r);
 
 /* The cloud of a validated recipe (sphere or bonnor-ebert), 1 if there is one. */
 int hx_recipe_has_cloud(const hx_recipe *r);

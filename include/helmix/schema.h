@@ -21,6 +21,8 @@
 /* field names */
 #define HX_FIELD_VELOCITY "velocity"
 #define HX_FIELD_DENSITY "density"
+#define HX_FIELD_MAGNETIC "magnetic"           /* cell-centred B, code_magnetic            */
+#define HX_FIELD_MAGNETIC_FACE "magnetic_face" /* B on the low faces of a staggered grid    */
 
 /* attributes of /helmix that inspect reads back */
 #define HX_ATTR_VRMS "vrms"
@@ -36,6 +38,31 @@
 #define HX_ATTR_KMIN "kmin"
 #define HX_ATTR_KMAX "kmax"
 #define HX_ATTR_WEIGHT "mix_weight" /* "volume": share of v; "mass": share of sqrt(rho) v */
+#define HX_ATTR_FRACTION_OF "fraction_of" /* "synthesis", or "written": shaped after synthesis */
+
+/* attributes of /helmix/state that inspect reads back (code units; NAN where not asked) */
+#define HX_STATE_SOUND_SPEED "sound_speed"
+#define HX_STATE_G "G_code"
+#define HX_STATE_AMPLITUDE_BY "amplitude_by"       /* "vrms", "mach", "virial" or "linewidth" */
+#define HX_STATE_VRMS_ASKED "vrms_asked"
+#define HX_STATE_MACH_ASKED "mach_asked"
+#define HX_STATE_VIRIAL_ASKED "virial_asked"
+#define HX_STATE_SIGMA_3D_ASKED "sigma_3d_asked"
+#define HX_STATE_VRMS "vrms"                       /* realized, as make measured them */
+#define HX_STATE_SIGMA_3D "sigma_3d"
+#define HX_STATE_MACH "mach"
+#define HX_STATE_VIRIAL "virial"
+#define HX_STATE_MOMENTUM "momentum"
+#define HX_STATE_MOMENTUM_RELATIVE "momentum_relative"
+#define HX_STATE_FLAGS "window_bulk_rotation"      /* three 0/1 integers */
+#define HX_STATE_DENSITY_MODEL "density_model"
+#define HX_STATE_DENSITY_MEAN "density_mean"
+#define HX_STATE_SIGMA_S_ASKED "sigma_s_asked"
+#define HX_STATE_SIGMA_S "sigma_s"
+#define HX_STATE_CLOUD "cloud"
+#define HX_STATE_CLOUD_CENTER "cloud_center"
+#define HX_STATE_CLOUD_RADIUS "cloud_radius"
+#define HX_STATE_REGION_MASS "region_mass"
 
 /* Dataset name of component c of a field with ncomp components: "velocity_x", or "density". */
 static inline void hx_schema_component(char *buf, size_t n, const char *field, int ncomp, int c)

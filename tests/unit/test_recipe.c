@@ -378,7 +378,8 @@ static void test_template(void)
     /* Every sample value is valid: uncommenting all "# key = value" lines (but the second of
      * each exclusive set: compressive_fraction beside zeta, mach and virial beside vrms, the
      * masses beside the densities) still gives a valid recipe. */
-    static const char *const exclusive[] = {"compressive_fraction =", "mach =", "virial =", "mass ="};
+    static const char *const exclusive[] = {"compressive_fraction =", "mach =", "virial =", "mass =", "beta =",
+                                            "alfven_mach =", "random_rms ="};
     for (char *p = text; (p = strstr(p, "\n# ")) != NULL; p++) {
         size_t name = strspn(p + 3, "abcdefghijklmnopqrstuvwxyz_");
         int skip = 0;
@@ -397,7 +398,7 @@ static void test_template(void)
     fclose(out);
     int lines = 0;
     for (const char *p = text; *p; p++) lines += *p == '\n';
-    CHECK(lines == 48); /* one line per key */
+    CHECK(lines == 60); /* one line per key */
     CHECK_STR_CONTAINS(text, "mix.exact");
     CHECK_STR_CONTAINS(text, "spectrum.kmax");
     free(text);
