@@ -647,6 +647,15 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     R.res.as_written = shaped(r);
     if (R.res.as_written) HX_TRY(velocity_shaped(&R, &dv, sp, &fl));
     else HX_TRY(velocity_one_pass(&R, &dv, sp, &diag, &fl));
+
+    const hx_field_summary *sum = hx_field_summary_get(R.f);
+    R.res.fraction = sum->fraction;
+    R.res.vrms_k = sum->vrms_k;
+    hx_field_timings(R.f, &R.res.t_draw, &R.res.t_fft);
+    /* local allocations only, but a failure must reach every rank before the next collective */
+    HX_TRY(hx_error_agree(comm, expected_slope(sum, r, &R.res.slope_fit, &R.res.slope_sigma)));
+    if (!R.res.as_written) HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &R.g, r)));
+    sum = NULL; /* the magnetic field reuses the synthesis: the velocity's summary is taken */
     for (int c = 0; c < 3; c++) R.res.b0[c] = NAN;
     R.res.b_random_rms = R.res.b_rms = R.res.b_face_rms = R.res.beta = R.res.alfven_mach = NAN;
     if (hx_recipe_has_magnetic(r)) {
@@ -659,13 +668,6 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
         hx_spectrum_destroy(&spb);
         HX_TRY(st);
     }
-
-    const hx_field_summary *sum = hx_field_summary_get(R.f);
-    R.res.fraction = sum->fraction;
-    R.res.vrms_k = sum->vrms_k;
-    hx_field_timings(R.f, &R.res.t_draw, &R.res.t_fft);
-    /* local allocations only, but a failure must reach every rank before the next collective */
-    HX_TRY(hx_error_agree(comm, expected_slope(sum, r, &R.res.slope_fit, &R.res.slope_sigma)));
     if (R.res.as_written) {
         hx_field_destroy(&R.f); /* the analysis needs the memory */
         free(R.rho);
@@ -674,8 +676,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
         R.res.fraction = diag.fraction;
         R.res.vrms_k = NAN;
         for (int c = 0; c < 3; c++) R.res.mean[c] = diag.mean[c];
-    } else
-        HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &R.g, r)));
+    }
     HX_TRY(hx_log_peak_rss(comm, &R.res.peak_rss));
     R.res.t_total = MPI_Wtime() - t0;
     HX_TRY(write_provenance(R.io, r, &R.g, &R.res));
