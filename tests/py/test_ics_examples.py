@@ -75,6 +75,7 @@ def body(args, hx, checks):
             box = f["/simulation_parameters"].attrs["domain_right_edge"]
             has_rho = "density" in g
             rho = g["density"][()].astype(np.float64) if has_rho else None
+            bx = g["magnetic_x"][()].astype(np.float64) if "magnetic_x" in g else None
         # yt orders cells x-major; compare sorted values (a permutation-free statistic)
         v_yt = np.sort(ad["gdf", "velocity_x"].to("cm/s").d)
         rel = np.max(np.abs(v_yt - np.sort(vx.ravel()) * velocity)) / (np.max(np.abs(vx)) * velocity)
@@ -89,6 +90,12 @@ def body(args, hx, checks):
             relr = np.max(np.abs(r_yt - np.sort(rho.ravel()) * density)) / (np.max(rho) * density)
             checks.check(f"{name}: yt gives density in g/cm^3 = dataset x the code density", relr < 1e-6,
                          f"max rel {relr:.2e}", "IAU 2015 B3 solar mass, CODATA 2018 G")
+        if bx is not None:  # Gaussian code magnetic unit sqrt(4 pi rho_u) v_u (NRL Plasma Formulary)
+            ub = math.sqrt(4 * math.pi * density) * velocity
+            b_yt = np.sort(ad["gdf", "magnetic_x"].to("gauss").d)
+            relb = np.max(np.abs(b_yt - np.sort(bx.ravel()) * ub)) / (np.max(np.abs(bx)) * ub)
+            checks.check(f"{name}: yt gives magnetic_x in gauss = dataset x sqrt(4 pi rho_u) v_u", relb < 1e-6,
+                         f"max rel {relb:.2e}", "NRL Plasma Formulary (Gaussian units)")
 
 
 if __name__ == "__main__":
