@@ -1,5 +1,6 @@
 /* cube.c — collective reading of velocity cubes (helmix files and foreign HDF5 layouts) into
- * the z slabs of an in-place r2c transform, and of the request a helmix file records.
+ * the z slabs of an in-place r2c transform, and of the request and the physical state a
+ * helmix file records.
  * Invariant: every rank opens, selects and reads with identical metadata calls; a rank that
  * owns no planes selects nothing but still takes part in each collective read. */
 #include "helmix/cube.h"
@@ -11,6 +12,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "helmix/schema.h"
 
 #define NAME_LEN 512
 
@@ -27,8 +29,6 @@ struct hx_cube {
     int single;
 };
 
-static const char *const helmix_names[3] = {"/data/grid_0000000000/velocity_x", "/data/grid_0000000000/velocity_y",
-                                            "/data/grid_0000000000/velocity_z"};
 
 /* Open dataset `name`; on failure say which file lacks which dataset. */
 static hx_status open_set(hx_cube *cu, int slot, const char *name, const char *hint)
@@ -98,7 +98,11 @@ static hx_status find_sets(hx_cube *cu, const hx_cube_spec *spec)
     hsize_t sp[4][3];
     const char *hint = spec->vector ? "" : " (not a helmix cube? name the datasets with --vector PX,PY,PZ)";
     if (!spec->vector) {
-        for (int c = 0; c < 3; c++) HX_TRY(open_set(cu, c, helmix_names[c], hint));
+        for (int c = 0; c < 3; c++) {
+            char name[NAME_LEN];
+            hx_schema_dataset(name, sizeof name, HX_FIELD_VELOCITY, 3, c);
+            HX_TRY(open_set(cu, c, name, hint));
+        }
     } else if (strchr(spec->vector, ',')) {
         char buf[3 * NAME_LEN], *save = NULL, *tok;
         snprintf(buf, sizeof buf, "%s", spec->vector);
@@ -117,8 +121,15 @@ static hx_status find_sets(hx_cube *cu, const hx_cube_spec *spec)
     for (int c = 1; c < nsets; c++)
         if (memcmp(sp[c], sp[0], sizeof sp[0]))
             HX_FAIL(HX_ERR_ARG, "%s and %s in %s differ in shape", cu->name[0], cu->name[c], cu->path);
-    if (spec->density) {
-        HX_TRY(open_set(cu, 3, spec->density, ""));
+    char own[NAME_LEN]; /* the helmix layout's density, found without --density */
+    hx_schema_dataset(own, sizeof own, HX_FIELD_DENSITY, 1, 0);
+    /* a helmix file (one that records its state) is analysed in its own density */
+    int helmix = !spec->vector && H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) > 0 &&
+                 H5Lexists(cu->file, HX_SCHEMA_STATE, H5P_DEFAULT) > 0;
+    const char *density = spec->density;
+    if (!density && helmix && H5Lexists(cu->file, own, H5P_DEFAULT) > 0) density = own;
+    if (density) {
+        HX_TRY(open_set(cu, 3, density, ""));
         HX_TRY(spatial_dims(cu, 3, 0, sp[3]));
         if (memcmp(sp[3], sp[0], sizeof sp[0]))
             HX_FAIL(HX_ERR_ARG, "density %s and velocity %s in %s differ in shape", cu->name[3], cu->name[0], cu->path);
@@ -181,6 +192,8 @@ void hx_cube_shape(const hx_cube *cu, int64_t cells[3], double box[3])
 }
 
 int hx_cube_single(const hx_cube *cu) { return cu->single; }
+
+int hx_cube_has_density(const hx_cube *cu) { return cu->dset[3] >= 0; }
 
 /* File selection of this rank's planes of component c; returns the element count selected. */
 static hx_status select_file(const hx_cube *cu, int c, hid_t space, const hx_grid *g)
@@ -246,14 +259,20 @@ fail:
     return st;
 }
 
-static int read_double(hid_t obj, const char *name, double *v)
+/* A numeric attribute of exactly n values (integers are converted), into v. */
+static int read_doubles(hid_t obj, const char *name, double *v, int n)
 {
     if (H5Aexists(obj, name) <= 0) return 0;
-    hid_t a = H5Aopen(obj, name, H5P_DEFAULT);
-    int ok = a >= 0 && H5Aread(a, H5T_NATIVE_DOUBLE, v) >= 0;
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT), sp = a >= 0 ? H5Aget_space(a) : -1, t = a >= 0 ? H5Aget_type(a) : -1;
+    int ok = sp >= 0 && t >= 0 && H5Sget_simple_extent_npoints(sp) == n &&
+             (H5Tget_class(t) == H5T_FLOAT || H5Tget_class(t) == H5T_INTEGER) && H5Aread(a, H5T_NATIVE_DOUBLE, v) >= 0;
+    if (t >= 0) H5Tclose(t);
+    if (sp >= 0) H5Sclose(sp);
     if (a >= 0) H5Aclose(a);
     return ok;
 }
+
+static int read_double(hid_t obj, const char *name, double *v) { return read_doubles(obj, name, v, 1); }
 
 /* A string attribute, variable or fixed length, into buf. */
 static int read_string(hid_t obj, const char *name, char *buf, size_t len)
@@ -292,19 +311,22 @@ static int read_string(hid_t obj, const char *name, char *buf, size_t len)
 
 hx_status hx_cube_request(hx_cube *cu, hx_request *q, int *found)
 {
-    char exact[32], shape[32], amps[32];
+    char exact[32], shape[32], amps[32], of[32];
     double target = NAN, realized = NAN, expected = NAN;
     *found = 0;
-    if (H5Lexists(cu->file, "/helmix", H5P_DEFAULT) <= 0) return HX_OK;
-    hid_t g = H5Gopen2(cu->file, "/helmix", H5P_DEFAULT);
-    if (g < 0) return hx_error_set(HX_ERR_ARG, "cannot open /helmix in %s", cu->path);
-    read_string(g, "amplitudes", amps, sizeof amps);
+    if (H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) <= 0) return HX_OK;
+    hid_t g = H5Gopen2(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT);
+    if (g < 0) return hx_error_set(HX_ERR_ARG, "cannot open " HX_SCHEMA_PROVENANCE " in %s", cu->path);
+    read_string(g, HX_ATTR_AMPLITUDES, amps, sizeof amps);
     hx_request_defaults(q, cu->single, !strcmp(amps, "fixed"));
-    q->has_vrms = read_double(g, "vrms", &q->vrms);
-    read_string(g, "exact", exact, sizeof exact);
-    read_double(g, "compressive_fraction_target", &target);
-    read_double(g, "realized_compressive_fraction", &realized);
-    if (read_double(g, "expected_compressive_fraction", &expected)) q->expected_fraction = expected;
+    q->has_vrms = read_double(g, HX_ATTR_VRMS, &q->vrms);
+    /* a field shaped after the synthesis (window, bulk removal, weighting) keeps no zero mean */
+    read_string(g, HX_ATTR_FRACTION_OF, of, sizeof of);
+    q->zero_mean = strcmp(of, "written") != 0;
+    read_string(g, HX_ATTR_EXACT, exact, sizeof exact);
+    read_double(g, HX_ATTR_FRACTION_TARGET, &target);
+    read_double(g, HX_ATTR_FRACTION_REALIZED, &realized);
+    if (read_double(g, HX_ATTR_FRACTION_EXPECTED, &expected)) q->expected_fraction = expected;
     if ((!strcmp(exact, "total") || !strcmp(exact, "shell")) && isfinite(target)) {
         q->has_fraction = 1;
         q->fraction = target;
@@ -313,11 +335,11 @@ hx_status hx_cube_request(hx_cube *cu, hx_request *q, int *found)
         q->has_recorded = 1;
         q->recorded_fraction = realized;
     }
-    read_string(g, "spectrum_shape", shape, sizeof shape);
-    if (!strcmp(shape, "power")) q->has_slope = read_double(g, "slope", &q->slope);
+    read_string(g, HX_ATTR_SHAPE, shape, sizeof shape);
+    if (!strcmp(shape, "power")) q->has_slope = read_double(g, HX_ATTR_SLOPE, &q->slope);
     double fit = NAN, sigma = NAN;
-    read_double(g, "slope_fit_expected", &fit);
-    read_double(g, "slope_fit_sigma", &sigma);
+    read_double(g, HX_ATTR_SLOPE_FIT, &fit);
+    read_double(g, HX_ATTR_SLOPE_SIGMA, &sigma);
     if (q->has_slope && isfinite(fit) && isfinite(sigma)) {
         /* judge the fit against what it should give on this grid and band, within 5 sigma of
          * its scatter for this draw (make computes both from its own mode set) */
@@ -325,11 +347,99 @@ hx_status hx_cube_request(hx_cube *cu, hx_request *q, int *found)
         q->slope = fit;
         q->tol_slope = fmax(5.0 * sigma, 0.01);
     }
-    read_double(g, "kmin", &q->fit_kmin);
-    read_double(g, "kmax", &q->fit_kmax);
+    read_double(g, HX_ATTR_KMIN, &q->fit_kmin);
+    read_double(g, HX_ATTR_KMAX, &q->fit_kmax);
     H5Gclose(g);
     *found = 1;
     return HX_OK;
+}
+
+/* A number that may be absent: NAN then. */
+static double maybe(hid_t g, const char *name)
+{
+    double v = NAN;
+    return read_double(g, name, &v) ? v : NAN;
+}
+
+hx_status hx_cube_read_state(hx_cube *cu, hx_cube_state *s)
+{
+    char text[32];
+    memset(s, 0, sizeof *s);
+    double *nan_fields[] = {&s->sound_speed,  &s->G,          &s->vrms_asked, &s->mach_asked,   &s->virial_asked,
+                            &s->sigma_3d_asked, &s->sigma_s_asked, &s->vrms,   &s->sigma_3d,     &s->mach,
+                            &s->virial,       &s->momentum_rel, &s->density_mean, &s->sigma_s, &s->region_mass};
+    for (size_t i = 0; i < sizeof nan_fields / sizeof *nan_fields; i++) *nan_fields[i] = NAN;
+    for (int a = 0; a < 3; a++) {
+        s->momentum[a] = NAN;
+        s->center[a] = 0.5 * cu->box[a];
+    }
+    s->radius = 0.5 * fmax(cu->box[0], fmax(cu->box[1], cu->box[2])); /* the virial convention of a box */
+    if (H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) > 0) {
+        hid_t p = H5Gopen2(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT);
+        if (p < 0) return hx_error_set(HX_ERR_ARG, "cannot open " HX_SCHEMA_PROVENANCE " in %s", cu->path);
+        if (read_string(p, HX_ATTR_WEIGHT, text, sizeof text)) s->mass_weight = !strcmp(text, "mass");
+        if (read_string(p, HX_ATTR_FRACTION_OF, text, sizeof text)) s->written = !strcmp(text, "written");
+        H5Gclose(p);
+    }
+    if (H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) <= 0 ||
+        H5Lexists(cu->file, HX_SCHEMA_STATE, H5P_DEFAULT) <= 0)
+        return HX_OK;
+    hid_t g = H5Gopen2(cu->file, HX_SCHEMA_STATE, H5P_DEFAULT);
+    if (g < 0) return hx_error_set(HX_ERR_ARG, "cannot open " HX_SCHEMA_STATE " in %s", cu->path);
+    s->found = 1;
+    read_string(g, HX_STATE_AMPLITUDE_BY, s->amplitude_by, sizeof s->amplitude_by);
+    read_string(g, HX_STATE_DENSITY_MODEL, s->density_model, sizeof s->density_model);
+    s->sound_speed = maybe(g, HX_STATE_SOUND_SPEED);
+    s->G = maybe(g, HX_STATE_G);
+    s->vrms_asked = maybe(g, HX_STATE_VRMS_ASKED);
+    s->mach_asked = maybe(g, HX_STATE_MACH_ASKED);
+    s->virial_asked = maybe(g, HX_STATE_VIRIAL_ASKED);
+    s->sigma_3d_asked = maybe(g, HX_STATE_SIGMA_3D_ASKED);
+    s->sigma_s_asked = maybe(g, HX_STATE_SIGMA_S_ASKED);
+    s->vrms = maybe(g, HX_STATE_VRMS);
+    s->sigma_3d = maybe(g, HX_STATE_SIGMA_3D);
+    s->mach = maybe(g, HX_STATE_MACH);
+    s->virial = maybe(g, HX_STATE_VIRIAL);
+    s->momentum_rel = maybe(g, HX_STATE_MOMENTUM_RELATIVE);
+    s->density_mean = maybe(g, HX_STATE_DENSITY_MEAN);
+    s->sigma_s = maybe(g, HX_STATE_SIGMA_S);
+    s->region_mass = maybe(g, HX_STATE_REGION_MASS);
+    double m[3], flags[3], cloud = 0, center[3], radius = NAN;
+    if (read_doubles(g, HX_STATE_MOMENTUM, m, 3)) memcpy(s->momentum, m, sizeof m);
+    if (read_doubles(g, HX_STATE_FLAGS, flags, 3))
+        for (int a = 0; a < 3; a++) s->flags[a] = flags[a] != 0;
+    /* the region: the recorded sphere when there is a cloud, else the whole box */
+    if (read_double(g, HX_STATE_CLOUD, &cloud) && cloud != 0 && read_doubles(g, HX_STATE_CLOUD_CENTER, center, 3) &&
+        read_double(g, HX_STATE_CLOUD_RADIUS, &radius) && radius > 0) {
+        s->cloud = 1;
+        memcpy(s->center, center, sizeof center);
+        s->radius = radius;
+    } else if (read_double(g, HX_STATE_CLOUD_RADIUS, &radius) && radius > 0)
+        s->radius = radius;
+    H5Gclose(g);
+    return HX_OK;
+}
+
+/* The asked value where one was asked, else the recorded one. */
+static double pick(double asked, double recorded, int *is_asked)
+{
+    *is_asked = isfinite(asked);
+    return *is_asked ? asked : recorded;
+}
+
+void hx_cube_request_state(const hx_cube_state *s, hx_request *q)
+{
+    if (!s->found) return;
+    q->sigma_3d = pick(s->sigma_3d_asked, s->sigma_3d, &q->asked_sigma_3d);
+    q->mach = pick(s->mach_asked, s->mach, &q->asked_mach);
+    q->virial = pick(s->virial_asked, s->virial, &q->asked_virial);
+    q->sigma_s = pick(s->sigma_s_asked, s->sigma_s, &q->asked_sigma_s);
+    q->density_mean = s->density_mean;
+    q->momentum_removed = s->flags[1];
+    q->momentum_rel = s->momentum_rel;
+    /* the window multiplies in real space, so it spreads every mode over its neighbours in k:
+     * the written spectrum has no promised slope, which is then shown for information only */
+    if (s->flags[0]) q->tol_slope = NAN;
 }
 
 void hx_cube_close(hx_cube **cube)

@@ -1,6 +1,7 @@
 /* diag.c — the shared summary of a cube: real-space moments and PDFs, shell energies,
- * compressive share and the compensated slope fit. Used by make (from its k-space sums and
- * the values it writes) and by inspect (from a cube it reads). */
+ * compressive share and the compensated slope fit, and the state of a velocity in a density
+ * (dispersion, Mach number, virial parameter, momentum). Used by make (from its k-space sums
+ * and the values it writes) and by inspect (from a cube it reads). */
 #include "helmix/diag.h"
 
 #include <math.h>
@@ -196,4 +197,30 @@ void hx_diag_finish(hx_diag *d)
     d->fraction = et > 0 ? ec / et : NAN;
     d->rms3 = sqrt(d->rms[0] * d->rms[0] + d->rms[1] * d->rms[1] + d->rms[2] * d->rms[2]);
     hx_diag_fit_slope(d, d->fit_kmin, d->fit_kmax, &d->slope, &d->slope_err);
+}
+
+void hx_diag_set_state(hx_diag *d, const hx_state_sums *s)
+{
+    const double n = s->cells, dv = s->cell_volume;
+    double v2 = 0, s2 = 0, p2 = 0;
+    d->has_state = 1;
+    for (int c = 0; c < 3; c++) {
+        d->vmean[c] = s->v[c] / n;
+        v2 += s->v2[c];
+        s2 += s->rho_dev2_region[c] / s->rho_region;
+        d->momentum[c] = s->rho_v[c] * dv;
+        p2 += d->momentum[c] * d->momentum[c];
+    }
+    d->vrms = sqrt(v2 / n);
+    d->mass = s->rho * dv;
+    d->rho_mean = s->rho / n;
+    d->ln_rho_mean = s->ln_rho / n;
+    d->sigma_s = sqrt(s->ln_rho_dev2 / n);
+    d->region_mass = s->rho_region * dv;
+    d->sigma_3d = s->rho_region > 0 ? sqrt(s2) : NAN;
+    d->mach = d->sound_speed > 0 ? d->sigma_3d / d->sound_speed : NAN;
+    /* alpha_vir = 5 sigma_1D^2 R / (G M), sigma_1D^2 = sigma_3D^2 / 3 (Bertoldi & McKee 1992) */
+    const double s1d2 = d->sigma_3d * d->sigma_3d / 3.0;
+    d->virial = d->gravity > 0 && d->region_mass > 0 ? 5.0 * s1d2 * d->radius / (d->gravity * d->region_mass) : NAN;
+    d->momentum_rel = d->mass > 0 && d->vrms > 0 ? sqrt(p2) / (d->mass * d->vrms) : NAN;
 }

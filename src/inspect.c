@@ -1,6 +1,8 @@
 /* inspect.c — the analysis pipeline: read a component, transform, accumulate, repeat.
  * Memory per rank: slab A (the component, real then complex, in place), slab B (k̂·v̂ summed
- * over components), optional density slab and optional mid-plane spectra.
+ * over components), optional density slab and optional mid-plane spectra. With a density the
+ * state (mass-weighted dispersion, Mach number, virial parameter, momentum, ln rho) is summed
+ * in real space from each component as it is read, before it is weighted or transformed.
  * Invariants: v̂ = FFT(v)/N; the r2c half is weighted 2 except the kx = 0 and Nyquist planes
  * (weight 1, their partners are stored); Nyquist frequencies are negative (numpy's fftfreq);
  * k = 0 (the mean flow) enters no energy, spectrum or gradient. */
@@ -13,6 +15,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "helmix/schema.h"
 
 enum { PV = 0, PW = 3, PDIV = 6, NPLANE = 7 }; /* plane slots: v xyz, vorticity xyz, divergence */
 
@@ -23,7 +26,11 @@ typedef struct {
     fftw_complex *pny, *pnz; /* k'·v̂' of the unstored partners on the y and z Nyquist planes */
     double *kp[3], *ku[3];   /* per axis: physical wavenumber, wavenumber in units of 2 pi / lmax */
     int *shell_of;           /* cubic boxes: shell of each integer |k|^2 (units 2 pi / lmax)     */
-    double *rho;
+    double *rho;       /* this rank's density, nz * Ny * Nx (NULL without one)        */
+    int weight;        /* 1: decompose sqrt(rho) v                                    */
+    int cloud;         /* the region of the state: a sphere (1) or the box (0)         */
+    double center[3], radius;
+    hx_state_sums S;   /* the state's sums (reduced where hx_diag_set_state needs them) */
     fftw_plan r2c, c2r;
     double ell;        /* remove_scale */
     const char *file, *density; /* for messages */
@@ -221,6 +228,42 @@ fail:
     return st;
 }
 
+/* Centre of cell i on axis a, (i + 1/2) L / N, with the same arithmetic as make (flow.c). */
+static inline double cell_centre(const hx_grid *g, int a, ptrdiff_t i)
+{
+    return ((double)i + 0.5) * g->box[a] / (double)g->n[a];
+}
+
+static inline int in_region(const work_t *W, ptrdiff_t x, double dy, double dz)
+{
+    double dx = cell_centre(&W->g, 0, x) - W->center[0];
+    return sqrt(dx * dx + dy * dy + dz * dz) <= W->radius;
+}
+
+/* Columns [*x0, *x1) of local row (y, z) inside the region. The distance grows with |x - centre|,
+ * so they are one run: estimated from the chord, then settled cell by cell with make's own test
+ * so that boundary cells fall on the same side. */
+static void region_span(const work_t *W, ptrdiff_t y, ptrdiff_t z, ptrdiff_t *x0, ptrdiff_t *x1)
+{
+    const hx_grid *g = &W->g;
+    const ptrdiff_t n = g->n[0];
+    if (!W->cloud) {
+        *x0 = 0, *x1 = n;
+        return;
+    }
+    double dy = cell_centre(g, 1, y) - W->center[1], dz = cell_centre(g, 2, g->z0 + z) - W->center[2];
+    double h = sqrt(fmax(W->radius * W->radius - dy * dy - dz * dz, 0.0)), dx = g->box[0] / (double)n;
+    ptrdiff_t a = (ptrdiff_t)fmin(fmax(ceil((W->center[0] - h) / dx - 0.5), 0.0), (double)n);
+    ptrdiff_t b = (ptrdiff_t)fmin(fmax(floor((W->center[0] + h) / dx - 0.5), -1.0), (double)(n - 1));
+    if (a > b) b = a - 1;
+    while (a > 0 && in_region(W, a - 1, dy, dz)) a--;
+    while (a <= b && !in_region(W, a, dy, dz)) a++;
+    if (a > b) b = a - 1;
+    while (b + 1 < n && in_region(W, b + 1, dy, dz)) b++;
+    while (b >= a && !in_region(W, b, dy, dz)) b--;
+    *x0 = a, *x1 = b + 1;
+}
+
 static hx_status setup(work_t *W, const hx_inspect_opts *o, hx_cube *cube, MPI_Comm comm)
 {
     hx_status st = HX_OK;
@@ -231,7 +274,7 @@ static hx_status setup(work_t *W, const hx_inspect_opts *o, hx_cube *cube, MPI_C
     const hx_grid *g = &W->g;
     W->comm = comm;
     W->file = o->cube.file;
-    W->density = o->cube.density;
+    W->density = o->cube.density ? o->cube.density : HX_SCHEMA_GRID "/" HX_FIELD_DENSITY;
     W->ell = o->remove_scale;
     W->slices = o->slices;
     W->a = fftw_alloc_complex((size_t)g->alloc);
@@ -240,8 +283,9 @@ static hx_status setup(work_t *W, const hx_inspect_opts *o, hx_cube *cube, MPI_C
     HX_TRY(hx_error_agree(comm, tables(W)));
     W->pny = fftw_alloc_complex((size_t)(g->n[2] * g->nxc));
     W->pnz = fftw_alloc_complex((size_t)((g->ny > 0 ? g->ny : 1) * g->nxc));
-    if (o->cube.density) W->rho = malloc((size_t)(g->nz > 0 ? g->nz : 1) * (size_t)g->n[1] * (size_t)g->n[0] * sizeof(double));
-    if (!W->a || !W->b || !W->pny || !W->pnz || (W->slices && !W->planes) || (o->cube.density && !W->rho))
+    int has_rho = hx_cube_has_density(cube);
+    if (has_rho) W->rho = malloc((size_t)(g->nz > 0 ? g->nz : 1) * (size_t)g->n[1] * (size_t)g->n[0] * sizeof(double));
+    if (!W->a || !W->b || !W->pny || !W->pnz || (W->slices && !W->planes) || (has_rho && !W->rho))
         st = hx_error_set(HX_ERR_MEM, "cannot allocate the analysis slabs (%.1f MiB each) on rank %d",
                           (double)g->alloc * 16.0 / 1048576.0, g->rank);
     HX_TRY(hx_error_agree(comm, st));
@@ -275,7 +319,53 @@ static void teardown(work_t *W)
     free(W->shell_of);
 }
 
-/* Read component c into slab A (times sqrt(rho) if mass-weighted); collective. */
+/* The state's sums of component c (rows `stride` apart in slab A): first the plain sums, which
+ * give the region's mass-weighted mean m_c once reduced, then the weighted squares about m_c,
+ * reduced with the rest after the last component. Collective. */
+static hx_status state_component(work_t *W, int c, const double *v, int64_t stride)
+{
+    hx_status st = HX_OK;
+    const hx_grid *g = &W->g;
+    const ptrdiff_t nx = g->n[0];
+    double s[4] = {0, 0, 0, 0}, dev = 0; /* sum v, sum v^2, sum rho v, sum_R rho v */
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++) {
+            const double *vr = v + (z * g->n[1] + y) * stride, *rr = W->rho + (z * g->n[1] + y) * nx;
+            ptrdiff_t x0, x1;
+            region_span(W, y, z, &x0, &x1);
+            for (ptrdiff_t x = 0; x < nx; x++) s[0] += vr[x], s[1] += vr[x] * vr[x], s[2] += rr[x] * vr[x];
+            for (ptrdiff_t x = x0; x < x1; x++) s[3] += rr[x] * vr[x];
+        }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 4, MPI_DOUBLE, MPI_SUM, W->comm));
+    W->S.v[c] = s[0], W->S.v2[c] = s[1], W->S.rho_v[c] = s[2], W->S.rho_v_region[c] = s[3];
+    const double m = W->S.rho_region > 0 ? s[3] / W->S.rho_region : 0.0;
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++) {
+            const double *vr = v + (z * g->n[1] + y) * stride, *rr = W->rho + (z * g->n[1] + y) * nx;
+            ptrdiff_t x0, x1;
+            region_span(W, y, z, &x0, &x1);
+            for (ptrdiff_t x = x0; x < x1; x++) dev += rr[x] * (vr[x] - m) * (vr[x] - m);
+        }
+    W->S.rho_dev2_region[c] = dev; /* local until state_finish */
+fail:
+    return st;
+}
+
+/* Collective: reduce the deviations and derive the state into d. */
+static hx_status state_finish(work_t *W, hx_diag *d)
+{
+    hx_status st = HX_OK;
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, W->S.rho_dev2_region, 3, MPI_DOUBLE, MPI_SUM, W->comm));
+    d->cloud = W->cloud;
+    memcpy(d->cloud_center, W->center, sizeof W->center);
+    d->radius = W->radius;
+    hx_diag_set_state(d, &W->S);
+fail:
+    return st;
+}
+
+/* Read component c into slab A, add it to the state's sums and weight it by sqrt(rho) when
+ * sqrt(rho) v is decomposed; collective. */
 static hx_status load(work_t *W, hx_cube *cube, int c)
 {
     const hx_grid *g = &W->g;
@@ -283,23 +373,51 @@ static hx_status load(work_t *W, hx_cube *cube, int c)
     hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, c, g, (double *)W->a, stride));
     if (st != HX_OK || !W->rho) return st;
     double *v = (double *)W->a;
+    if ((st = state_component(W, c, v, stride)) != HX_OK || !W->weight) return st;
     for (ptrdiff_t r = 0; r < g->nz * g->n[1]; r++)
-        for (ptrdiff_t x = 0; x < g->n[0]; x++) v[r * stride + x] *= W->rho[r * g->n[0] + x];
+        for (ptrdiff_t x = 0; x < g->n[0]; x++) v[r * stride + x] *= sqrt(W->rho[r * g->n[0] + x]);
     return HX_OK;
 }
 
+/* Read the density, refuse negative or non-numeric values, and take its sums: mass (box and
+ * region), then ln rho about its mean. Collective. */
 static hx_status read_density(work_t *W, hx_cube *cube)
 {
     const hx_grid *g = &W->g;
-    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, 3, g, W->rho, g->n[0]));
+    const ptrdiff_t nx = g->n[0];
+    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, 3, g, W->rho, nx));
     if (st != HX_OK) return st;
-    int bad = 0;
-    for (ptrdiff_t i = 0; i < g->nz * g->n[1] * g->n[0]; i++) {
-        if (!(W->rho[i] >= 0)) bad = 1;
-        W->rho[i] = sqrt(W->rho[i]);
+    double s[5] = {0, 0, 0, 0, 0}; /* sum rho, sum_R rho, sum ln rho, cells with rho = 0, bad cells */
+    for (ptrdiff_t z = 0; z < g->nz; z++)
+        for (ptrdiff_t y = 0; y < g->n[1]; y++) {
+            const double *rr = W->rho + (z * g->n[1] + y) * nx;
+            ptrdiff_t x0, x1;
+            region_span(W, y, z, &x0, &x1);
+            for (ptrdiff_t x = 0; x < nx; x++) {
+                if (!(rr[x] >= 0 && rr[x] < HUGE_VAL)) s[4] += 1;
+                else if (rr[x] > 0) s[0] += rr[x], s[2] += log(rr[x]);
+                else s[3] += 1;
+            }
+            for (ptrdiff_t x = x0; x < x1; x++) s[1] += rr[x];
+        }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 5, MPI_DOUBLE, MPI_SUM, W->comm));
+    if (s[4] > 0) /* every rank knows from the reduction: they all leave together */
+        return hx_error_set(HX_ERR_ARG, "density %s in %s holds negative or non-numeric values", W->density, W->file);
+    const double n = (double)hx_grid_cells(g), ml = s[2] / n;
+    double dev = 0;
+    for (ptrdiff_t i = 0; i < g->nz * g->n[1] * nx; i++) {
+        double l = W->rho[i] > 0 ? log(W->rho[i]) - ml : 0.0;
+        dev += l * l;
     }
-    st = bad ? hx_error_set(HX_ERR_ARG, "density %s in %s holds negative or non-numeric values", W->density, W->file) : HX_OK;
-    return hx_error_agree(W->comm, st);
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &dev, 1, MPI_DOUBLE, MPI_SUM, W->comm));
+    W->S.cells = n;
+    W->S.cell_volume = g->box[0] * g->box[1] * g->box[2] / n;
+    W->S.rho = s[0], W->S.rho_region = s[1];
+    /* ln rho of an empty cell is -infinity: its mean and spread are not defined */
+    W->S.ln_rho = s[3] > 0 ? NAN : s[2];
+    W->S.ln_rho_dev2 = s[3] > 0 ? NAN : dev;
+fail:
+    return st;
 }
 
 static void default_fit(hx_diag *d, const hx_inspect_opts *o, const hx_request *q, int found)
@@ -322,12 +440,26 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     HX_TRY(hx_error_agree(comm, hx_cube_open(&cube, &o->cube, comm)));
     HX_TRY(hx_error_agree(comm, hx_cube_request(cube, q, found)));
     if (!*found) hx_request_defaults(q, hx_cube_single(cube), 0);
+    hx_cube_state state;
+    HX_TRY(hx_error_agree(comm, hx_cube_read_state(cube, &state)));
+    /* the decomposition weights by sqrt(rho) when asked (--density) or when the file's mix was
+     * asked for sqrt(rho) v; the state needs only a density */
+    W.weight = o->cube.density != NULL || state.mass_weight;
+    if (W.weight && !hx_cube_has_density(cube)) /* the same verdict on every rank: no agreement needed */
+        HX_FAIL(HX_ERR_ARG, "%s records a mix of sqrt(rho) v (mix_weight = mass) but holds no density dataset; "
+                            "name one with --density", o->cube.file);
+    if (hx_cube_has_density(cube)) hx_cube_request_state(&state, q);
+    W.cloud = state.cloud;
+    memcpy(W.center, state.center, sizeof W.center);
+    W.radius = state.radius;
     HX_TRY(setup(&W, o, cube, comm));
     const hx_grid *g = &W.g;
     for (int a = 0; a < 3; a++) d->cells[a] = g->n[a], d->box[a] = g->box[a];
     d->ranks = g->size;
     d->remove_scale = o->remove_scale;
-    d->mass_weighted = o->cube.density != NULL;
+    d->mass_weighted = W.weight;
+    d->sound_speed = o->sound_speed > 0 ? o->sound_speed : state.sound_speed > 0 ? state.sound_speed : NAN;
+    d->gravity = o->gravity > 0 ? o->gravity : state.G > 0 ? state.G : NAN;
     HX_TRY(hx_error_agree(comm, hx_diag_shells(d, shells_needed(g))));
     hx_log_say(log, HX_LOG_INFO, "inspect %s: %tdx%tdx%td cells on %d rank%s", o->cube.file, g->n[0], g->n[1], g->n[2],
                g->size, g->size > 1 ? "s" : "");
@@ -345,6 +477,7 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
         hx_log_say(log, HX_LOG_INFO, "component %c analysed", "xyz"[c]);
     }
     accumulate_div(&W, d);
+    if (W.rho) HX_TRY(state_finish(&W, d));
     int ns = d->nshell;
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_e, ns, MPI_DOUBLE, MPI_SUM, comm));
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_comp, ns, MPI_DOUBLE, MPI_SUM, comm));

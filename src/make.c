@@ -177,32 +177,32 @@ static hx_status write_state(hx_io *io, const hx_recipe *r, const hx_cloud *cl, 
     HX_TRY(hx_io_attr_doubles(io, G, "unit_velocity_cm_s", &u->velocity, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "unit_density_g_cm3", &u->density, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "unit_mass_g", &u->mass, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "G_code", &u->G, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_G, &u->G, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "temperature_K", &r->temperature.value, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "mu", &r->mu, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "gamma", &r->gamma, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "sound_speed", &u->sound_speed, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_SOUND_SPEED, &u->sound_speed, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "sound_speed_cm_s", &cs_cgs, 0));
-    HX_TRY(hx_io_attr_string(io, G, "amplitude_by", hx_amplitude_by_name(r->amplitude_by)));
+    HX_TRY(hx_io_attr_string(io, G, HX_STATE_AMPLITUDE_BY, hx_amplitude_by_name(r->amplitude_by)));
     /* asked: the rule's value; realized: measured on the field as written */
     double asked[4] = {r->amplitude_by == HX_AMPLITUDE_VRMS ? r->vrms : NAN,
                        r->amplitude_by == HX_AMPLITUDE_MACH ? r->mach : NAN,
                        r->amplitude_by == HX_AMPLITUDE_VIRIAL ? r->virial : NAN,
                        r->amplitude_by == HX_AMPLITUDE_LINEWIDTH ? hx_cloud_target_sigma(cl, r, res->region_mass) : NAN};
-    HX_TRY(hx_io_attr_doubles(io, G, "vrms_asked", &asked[0], 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "mach_asked", &asked[1], 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "virial_asked", &asked[2], 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "sigma_3d_asked", &asked[3], 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "vrms", &res->vrms_x, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "sigma_3d", &res->sigma_3d, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "mach", &res->mach, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "virial", &res->virial, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "momentum", res->momentum, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_VRMS_ASKED, &asked[0], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MACH_ASKED, &asked[1], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_VIRIAL_ASKED, &asked[2], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_SIGMA_3D_ASKED, &asked[3], 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_VRMS, &res->vrms_x, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_SIGMA_3D, &res->sigma_3d, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MACH, &res->mach, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_VIRIAL, &res->virial, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MOMENTUM, res->momentum, 3));
     HX_TRY(hx_io_attr_doubles(io, G, "angular_momentum", res->angular, 3));
-    HX_TRY(hx_io_attr_doubles(io, G, "momentum_relative", &res->momentum_rel, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MOMENTUM_RELATIVE, &res->momentum_rel, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "angular_momentum_relative", &res->angular_rel, 0));
     int64_t flags[3] = {r->window, r->remove_bulk, r->remove_rotation};
-    HX_TRY(hx_io_attr_int64s(io, G, "window_bulk_rotation", flags, 3));
+    HX_TRY(hx_io_attr_int64s(io, G, HX_STATE_FLAGS, flags, 3));
     HX_TRY(hx_io_attr_doubles(io, G, "magnetic_b0", res->b0, 3));
     HX_TRY(hx_io_attr_doubles(io, G, "magnetic_random_rms", &res->b_random_rms, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "magnetic_rms", &res->b_rms, 0));
@@ -216,19 +216,19 @@ static hx_status write_state(hx_io *io, const hx_recipe *r, const hx_cloud *cl, 
                              "magnetic_face_c[k][j][i] lies on the low-c face of cell (i, j, k): at x_c = i dx_c, the "
                              "other two coordinates at cell centres; it is the discrete curl of a vector potential on "
                              "cell edges, so sum_c (B_c[i_c + 1] - B_c[i_c]) / dx_c = 0 (periodic)"));
-    HX_TRY(hx_io_attr_string(io, G, "density_model", hx_density_model_name(r->density_model)));
+    HX_TRY(hx_io_attr_string(io, G, HX_STATE_DENSITY_MODEL, hx_density_model_name(r->density_model)));
     if (r->density_model == HX_DENSITY_NONE) return HX_OK;
-    HX_TRY(hx_io_attr_doubles(io, G, "density_mean", &res->density_mean, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "sigma_s_asked", r->density_model == HX_DENSITY_LOGNORMAL ? &r->sigma_s : &nan, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "sigma_s", &res->sigma_s_written, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_DENSITY_MEAN, &res->density_mean, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_SIGMA_S_ASKED, r->density_model == HX_DENSITY_LOGNORMAL ? &r->sigma_s : &nan, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_SIGMA_S, &res->sigma_s_written, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "b", &r->b, 0));
     int64_t cloud = cl->has_cloud, clumps = r->clumps;
-    HX_TRY(hx_io_attr_int64s(io, G, "cloud", &cloud, 0));
+    HX_TRY(hx_io_attr_int64s(io, G, HX_STATE_CLOUD, &cloud, 0));
     HX_TRY(hx_io_attr_int64s(io, G, "clumps", &clumps, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "cloud_center", cl->center, 3));
-    HX_TRY(hx_io_attr_doubles(io, G, "cloud_radius", &cl->radius, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_CLOUD_CENTER, cl->center, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_CLOUD_RADIUS, &cl->radius, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "cloud_edge", &cl->edge, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "region_mass", &res->region_mass, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_REGION_MASS, &res->region_mass, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "model_mass", &cl->mass_model, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "density_inside", &cl->rho_in, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "density_edge", &cl->rho_edge, 0));
@@ -524,6 +524,30 @@ fail:
     return st;
 }
 
+/* [output] parts: the solenoidal and compressive parts of the velocity, synthesised from the
+ * same draws and factors (the mix solve sees the same sums), each written as its own field. */
+static hx_status write_parts(run_t *R, const hx_desc *dv, const hx_spectrum *sp)
+{
+    hx_status st = HX_OK;
+    static const char *const names[2] = {HX_FIELD_SOLENOIDAL, HX_FIELD_COMPRESSIVE};
+    for (int p = 0; p < 2; p++) {
+        hx_desc d = *dv;
+        int id = -1;
+        d.name = names[p];
+        d.part = p ? HX_PART_COMPRESSIVE : HX_PART_SOLENOIDAL;
+        HX_TRY(hx_io_add_field(R->io, d.name, 3, "code_length/code_time", 0, &id));
+        HX_TRY(hx_field_mix(R->f, &d, sp));
+        for (int c = 0; c < 3; c++) {
+            const void *slab = NULL;
+            HX_TRY(hx_field_component(R->f, c, R->r->precision, &slab, NULL));
+            HX_TRY(hx_io_write_component(R->io, id, c, slab));
+        }
+        hx_log_say(R->log, HX_LOG_INFO, "%s written", d.name);
+    }
+fail:
+    return st;
+}
+
 /* The magnetic field: B0 from its strength, plasma beta or Alfven Mach number (code units:
  * beta = 2 P / B0^2 with P = <rho> c_s^2 / gamma, v_A = B0 / sqrt(<rho>)), plus a random part that
  * is purely solenoidal (mix share 0, exact) on its own stream; cell-centred and, with faces, the
@@ -656,6 +680,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     HX_TRY(hx_error_agree(comm, expected_slope(sum, r, &R.res.slope_fit, &R.res.slope_sigma)));
     if (!R.res.as_written) HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &R.g, r)));
     sum = NULL; /* the magnetic field reuses the synthesis: the velocity's summary is taken */
+    if (r->parts) HX_TRY(write_parts(&R, &dv, sp));
     for (int c = 0; c < 3; c++) R.res.b0[c] = NAN;
     R.res.b_random_rms = R.res.b_rms = R.res.b_face_rms = R.res.beta = R.res.alfven_mach = NAN;
     if (hx_recipe_has_magnetic(r)) {

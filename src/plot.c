@@ -1,5 +1,5 @@
 /* plot.c — the one-page report of a cube's summary: key numbers, shell spectra, compressive
- * share per shell, one-point PDFs and mid-plane slices, drawn with cairo on a fixed logical
+ * share per shell, one-point PDFs, mid-plane slices and the state in a density, drawn with cairo on a fixed logical
  * page of 1800x1300 units that is scaled onto the PNG or PDF surface. The slice colour maps
  * are built here from a few control points in the OKLab perceptual colour space. */
 #include "helmix/plot.h"
@@ -604,6 +604,37 @@ static void share_panel(cairo_t *cr, const hx_diag *d, const shells *r, double t
     legend(cr, f.x + f.w + LEGEND_GAP, f.y, e, n, NULL, 0);
 }
 
+/* ---- the state in a density ------------------------------------------------------------ */
+
+/* A small box of the state's numbers beside the lower spectra panel, its bottom at `bottom`
+ * (above the share panel's title); drawn only when the cube has a density. */
+static void state_box(cairo_t *cr, const hx_diag *d, double x, double bottom)
+{
+    char rows[5][96], a[32], b[32];
+    if (!d->has_state) return;
+    snprintf(rows[0], sizeof rows[0], "State in the density");
+    snprintf(rows[1], sizeof rows[1], "σ(3D) %s · Mach %s", num(a, sizeof a, "%#.4g", d->sigma_3d),
+             num(b, sizeof b, "%#.4g", d->mach));
+    snprintf(rows[2], sizeof rows[2], "α(vir) %s · R %s (%s)", num(a, sizeof a, "%#.4g", d->virial),
+             num(b, sizeof b, "%g", d->radius), d->cloud ? "cloud" : "box");
+    snprintf(rows[3], sizeof rows[3], "σ(s) %s · mean ln ρ %s", num(a, sizeof a, "%#.4g", d->sigma_s),
+             num(b, sizeof b, "%#.4g", d->ln_rho_mean));
+    snprintf(rows[4], sizeof rows[4], "|P| / (M v(rms)) %s", num(a, sizeof a, "%.2g", d->momentum_rel));
+    double w = 0;
+    for (int i = 0; i < 5; i++) {
+        font(cr, FS_SMALL, i == 0);
+        w = fmax(w, text_width(cr, rows[i]));
+    }
+    w = fmax(w + 2 * LEG_PAD, LEGEND_W);
+    double h = 5 * LEG_ROW + 2 * LEG_PAD - 4, y = bottom - h, cy = y + LEG_PAD + LEG_ROW / 2 - 2;
+    legend_box(cr, x, y, w, h);
+    set_rgb(cr, INK);
+    for (int i = 0; i < 5; i++, cy += LEG_ROW) {
+        font(cr, FS_SMALL, i == 0);
+        text(cr, rows[i], x + LEG_PAD, cy, 0, 0.5);
+    }
+}
+
 /* ---- one-point PDFs -------------------------------------------------------------------- */
 
 static axis density_axis(const hx_diag *d)
@@ -1034,6 +1065,7 @@ static hx_status draw_page(cairo_t *cr, const hx_diag *d, const hx_plot_request 
     shells r = shell_range(d);
     spectra_panel(cr, d, &r, req ? req->slope : NAN, spec);
     share_panel(cr, d, &r, req ? req->fraction : NAN, share);
+    state_box(cr, d, spec.x + spec.w + LEGEND_GAP, share.y - 44);
     pdf_panel(cr, d, pdf);
     return slices_row(cr, d, 898, dev);
 }

@@ -584,6 +584,11 @@ static const key keys[] = {
      "output HDF5 file; a relative path is taken from the current directory", 0, 0, 0},
     {ENUM("output", "precision", precision, prec_names, "one of single, double"), "single", NULL, NULL, NULL,
      "floating-point precision of the datasets written to the file (the fields are computed in double)", 0, 0, 0},
+    {OTHER("output", "parts", K_BOOL, parts, "true or false (also yes/no, 1/0)"), "false", NULL, NULL, NULL,
+     "also write the velocity's solenoidal and compressive parts, velocity_solenoidal_x|y|z and\n"
+     "velocity_compressive_x|y|z, which add up to the velocity mode by mode (for testing decomposition tools)\n"
+     "Only for a velocity the cloud does not shape (no window, removal or mass weighting).",
+     0, 0, 0},
 };
 #define NKEYS ((int)(sizeof keys / sizeof keys[0]))
 _Static_assert(sizeof keys / sizeof keys[0] <= HX_RECIPE_MAX_KEYS, "hx_recipe.line has room for every key");
@@ -1117,6 +1122,9 @@ static hx_status check_density(hx_recipe *r)
         r->remove_bulk = 0;
     }
     if (r->remove_bulk < 0) r->remove_bulk = m != HX_DENSITY_NONE && m != HX_DENSITY_UNIFORM;
+    if (r->parts && (r->window || r->remove_bulk || r->remove_rotation || r->weight == HX_WEIGHT_MASS))
+        return invalid(r, "output", "parts", "the parts are written only for a velocity the cloud does not shape: turn "
+                                             "off window, remove_bulk, remove_rotation and weight = mass");
     return HX_OK;
 }
 

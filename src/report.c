@@ -1,6 +1,7 @@
 /* report.c — the cube's summary as a table on a stream, as JSON (cJSON) and as a per-shell
- * CSV file. Every number printed is a field of hx_diag; nothing is computed here except the
- * per-shell share shell_comp/shell_e. */
+ * CSV file, with the state of the velocity in a density when the cube has one. Every number
+ * printed is a field of hx_diag; nothing is computed here except the per-shell share
+ * shell_comp/shell_e. */
 #include "helmix/report.h"
 
 #include <cjson/cJSON.h>
@@ -11,6 +12,29 @@
 
 static const char axis[3] = {'x', 'y', 'z'};
 
+/* The state in a density: mass, ln rho, dispersion, Mach number, virial parameter, momentum. */
+static void print_state(FILE *out, const hx_diag *d)
+{
+    if (!d->has_state) return;
+    fprintf(out, "\n  state of v in the density (volume-weighted over the box unless said otherwise):\n");
+    fprintf(out, "    mass %.7g, mean density %.7g; ln rho: mean %.7g, sigma_s %.7g\n", d->mass, d->rho_mean,
+            d->ln_rho_mean, d->sigma_s);
+    fprintf(out, "    rms velocity %.7g, mean velocity (%.4g, %.4g, %.4g)\n", d->vrms, d->vmean[0], d->vmean[1],
+            d->vmean[2]);
+    if (d->cloud)
+        fprintf(out, "    region: the cloud, centre (%g, %g, %g), radius %g; mass %.7g\n", d->cloud_center[0],
+                d->cloud_center[1], d->cloud_center[2], d->radius, d->region_mass);
+    else fprintf(out, "    region: the whole box (radius max(L)/2 = %g for the virial parameter); mass %.7g\n", d->radius, d->region_mass);
+    fprintf(out, "    mass-weighted 3D dispersion sigma_3D over the region %.7g\n", d->sigma_3d);
+    if (isfinite(d->mach)) fprintf(out, "    Mach number sigma_3D / c_s %.7g (c_s = %.7g)\n", d->mach, d->sound_speed);
+    else fprintf(out, "    Mach number: no sound speed known (give --sound-speed)\n");
+    if (isfinite(d->virial))
+        fprintf(out, "    virial parameter 5 sigma_1D^2 R / (G M) %.7g (G = %.7g; Bertoldi & McKee 1992)\n", d->virial, d->gravity);
+    else fprintf(out, "    virial parameter: no G known (give --gravity)\n");
+    fprintf(out, "    net momentum (%.6g, %.6g, %.6g), |P| / (M vrms) = %.3g\n", d->momentum[0], d->momentum[1],
+            d->momentum[2], d->momentum_rel);
+}
+
 void hx_report_print(FILE *out, const hx_diag *d, const char *source)
 {
     fprintf(out, "helmix %s inspect: %s\n", HX_VERSION, source);
@@ -19,6 +43,7 @@ void hx_report_print(FILE *out, const hx_diag *d, const char *source)
             d->ranks > 1 ? "s" : "");
     if (d->remove_scale > 0) fprintf(out, "  flow smoothed on scale %g removed before the analysis\n", d->remove_scale);
     if (d->mass_weighted) fprintf(out, "  mass-weighted: the field analysed is sqrt(rho) v\n");
+    print_state(out, d);
     fprintf(out, "\n  %-10s %14s %14s %12s %12s\n", "component", "mean", "rms", "skewness", "ex.kurtosis");
     for (int c = 0; c < 3; c++)
         fprintf(out, "  %-10c %14.7g %14.7g %12.4g %12.4g\n", axis[c], d->mean[c], d->rms[c], d->skew[c], d->kurt[c]);
@@ -98,6 +123,31 @@ static cJSON *verdict(const hx_verdict *v)
     return o;
 }
 
+/* The state as JSON (NAN prints as null), or null without a density. */
+static cJSON *state(const hx_diag *d)
+{
+    if (!d->has_state) return cJSON_CreateNull();
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddNumberToObject(o, "mass", d->mass);
+    cJSON_AddNumberToObject(o, "density_mean", d->rho_mean);
+    cJSON_AddNumberToObject(o, "ln_density_mean", d->ln_rho_mean);
+    cJSON_AddNumberToObject(o, "sigma_s", d->sigma_s);
+    cJSON_AddItemToObject(o, "velocity_mean", array(d->vmean, 3));
+    cJSON_AddNumberToObject(o, "velocity_rms", d->vrms);
+    cJSON_AddBoolToObject(o, "cloud", d->cloud);
+    cJSON_AddItemToObject(o, "cloud_center", array(d->cloud_center, 3));
+    cJSON_AddNumberToObject(o, "radius", d->radius);
+    cJSON_AddNumberToObject(o, "region_mass", d->region_mass);
+    cJSON_AddNumberToObject(o, "sigma_3d", d->sigma_3d);
+    cJSON_AddNumberToObject(o, "sound_speed", d->sound_speed);
+    cJSON_AddNumberToObject(o, "mach", d->mach);
+    cJSON_AddNumberToObject(o, "gravity", d->gravity);
+    cJSON_AddNumberToObject(o, "virial", d->virial);
+    cJSON_AddItemToObject(o, "momentum", array(d->momentum, 3));
+    cJSON_AddNumberToObject(o, "momentum_relative", d->momentum_rel);
+    return o;
+}
+
 hx_status hx_report_json(const char *path, const hx_diag *d, const hx_verdict *v, const char *source)
 {
     cJSON *root = cJSON_CreateObject();
@@ -133,6 +183,7 @@ hx_status hx_report_json(const char *path, const hx_diag *d, const hx_verdict *v
     cJSON_AddItemToObject(sl, "fit_range", array(fit, 2));
     cJSON_AddNumberToObject(sl, "value", d->slope);
     cJSON_AddNumberToObject(sl, "stderr", d->slope_err);
+    cJSON_AddItemToObject(root, "state", state(d));
     cJSON_AddItemToObject(root, "shells", shells(d));
     cJSON *pdf = cJSON_AddObjectToObject(root, "pdf");
     cJSON_AddItemToObject(pdf, "edges", array(edges, HX_DIAG_BINS + 1));

@@ -1,6 +1,7 @@
 /* verdict.c — requested versus measured, line by line, with the tolerance each line is
- * judged with. Tolerances: exact quantities are held to what the stored precision allows;
- * the slope of a Gaussian draw scatters, so it gets a statistical allowance. */
+ * judged with. Tolerances: exact quantities (rms, shares, the state in a density) are held to
+ * what the stored precision allows; the slope of a Gaussian draw scatters, so it gets a
+ * statistical allowance. */
 #include "helmix/verdict.h"
 
 #include <math.h>
@@ -17,6 +18,11 @@ void hx_request_defaults(hx_request *q, int single, int fixed_amplitudes)
      * doubles to ~1e-15. The margins below leave two orders of magnitude. */
     q->tol_vrms = single ? 1e-5 : 1e-9;
     q->tol_fraction = single ? 1e-5 : 1e-9;
+    q->zero_mean = 1;
+    q->sigma_3d = q->mach = q->virial = q->sigma_s = q->density_mean = q->momentum_rel = NAN;
+    /* the state is a sum over the stored values, so it keeps the digits of the data as well */
+    q->tol_state = single ? 1e-5 : 1e-9;
+    q->tol_momentum = single ? 1e-5 : 1e-9;
     /* Without a recorded expectation: a compensated least-squares slope over >= 10 shells of a
      * Gaussian draw scatters by several hundredths; fixed amplitudes scatter less. */
     q->tol_slope = fixed_amplitudes ? 0.05 : 0.15;
@@ -64,19 +70,52 @@ static void add(hx_verdict *v, const char *what, double req, double meas, double
     l->requested = req;
     l->measured = meas;
     l->tolerance = tol;
-    l->passed = passed;
-    if (!passed) v->passed = 0;
+    l->passed = isnan(tol) ? 1 : passed; /* information lines never fail */
+    if (!l->passed) v->passed = 0;
+}
+
+/* A state line: relative tolerance, named "... as made" when the value is what make measured. */
+static void add_state(hx_verdict *v, const char *what, int asked, double req, double meas, double tol)
+{
+    char name[48];
+    snprintf(name, sizeof name, "%s%s", what, asked ? "" : " as made");
+    add(v, name, req, meas, tol, fabs(meas - req) <= tol);
+}
+
+/* The lines of the state in a density; nothing when the cube has none. */
+static void judge_state(const hx_request *q, const hx_diag *d, hx_verdict *v)
+{
+    if (!d->has_state) return;
+    const double t = q->tol_state;
+    if (isfinite(q->sigma_3d))
+        add_state(v, "dispersion sigma_3D", q->asked_sigma_3d, q->sigma_3d, d->sigma_3d, t * fabs(q->sigma_3d));
+    if (isfinite(q->mach)) add_state(v, "Mach number", q->asked_mach, q->mach, d->mach, t * fabs(q->mach));
+    if (isfinite(q->virial))
+        add_state(v, "virial parameter", q->asked_virial, q->virial, d->virial, t * fabs(q->virial));
+    /* ln rho is dimensionless: stored digits bound its error absolutely */
+    if (isfinite(q->sigma_s))
+        add_state(v, "sigma_s of ln rho", q->asked_sigma_s, q->sigma_s, d->sigma_s, t * fmax(1.0, q->sigma_s));
+    if (isfinite(q->density_mean))
+        add_state(v, "mean density", 0, q->density_mean, d->rho_mean, t * fabs(q->density_mean));
+    if (q->momentum_removed)
+        add(v, "net momentum |P|/(M vrms)", 0.0, d->momentum_rel, q->tol_momentum, fabs(d->momentum_rel) <= q->tol_momentum);
+    else if (isfinite(q->momentum_rel))
+        add(v, "net momentum as made", q->momentum_rel, d->momentum_rel, q->tol_momentum,
+            fabs(d->momentum_rel - q->momentum_rel) <= q->tol_momentum);
 }
 
 void hx_verdict_judge(const hx_request *q, const hx_diag *d, hx_verdict *v)
 {
     memset(v, 0, sizeof *v);
     v->passed = 1;
+    /* rms and mean are of v itself: when sqrt(rho) v is decomposed they come from the state */
+    const int raw = d->mass_weighted && d->has_state;
+    const double rms = raw ? d->vrms : d->rms3, *mean = raw ? d->vmean : d->mean;
     if (q->has_vrms) {
         double tol = q->tol_vrms * q->vrms;
-        add(v, "rms velocity", q->vrms, d->rms3, tol, fabs(d->rms3 - q->vrms) <= tol);
-        double m = fmax(fabs(d->mean[0]), fmax(fabs(d->mean[1]), fabs(d->mean[2])));
-        add(v, "largest mean component", 0.0, m, tol, m <= tol);
+        add(v, "rms velocity", q->vrms, rms, tol, fabs(rms - q->vrms) <= tol);
+        double m = fmax(fabs(mean[0]), fmax(fabs(mean[1]), fabs(mean[2])));
+        if (q->zero_mean) add(v, "largest mean component", 0.0, m, tol, m <= tol);
     }
     if (q->has_fraction)
         add(v, "compressive share", q->fraction, d->fraction, q->tol_fraction, fabs(d->fraction - q->fraction) <= q->tol_fraction);
@@ -101,6 +140,7 @@ void hx_verdict_judge(const hx_request *q, const hx_diag *d, hx_verdict *v)
         add(v, "spectral slope", q->slope, d->slope, q->tol_slope, fabs(d->slope - q->slope) <= q->tol_slope);
     if (q->has_slope && isfinite(q->slope_recipe) && q->slope_recipe != q->slope)
         add(v, "slope asked in the recipe", q->slope_recipe, d->slope, NAN, 1);
+    judge_state(q, d, v);
 }
 
 void hx_verdict_print(const hx_verdict *v, FILE *out)

@@ -1,7 +1,8 @@
 /* helmix/cube.h — reading a velocity cube for analysis: a helmix file or any HDF5 file that
  * holds three 3-D datasets or one 4-D dataset with a component axis, in zyx (x fastest) or
- * xyz (z fastest) order, opened collectively through MPI-IO. Each rank reads its z slab
- * straight into the padded rows of an in-place r2c transform. */
+ * xyz (z fastest) order, and optionally a density, opened collectively through MPI-IO. Each
+ * rank reads its z slab straight into the padded rows of an in-place r2c transform. A helmix
+ * file also gives back its request (/helmix) and its physical state (/helmix/state). */
 #ifndef HELMIX_CUBE_H
 #define HELMIX_CUBE_H
 
@@ -17,13 +18,30 @@ typedef enum { HX_ORDER_ZYX = 0, HX_ORDER_XYZ } hx_order;
 typedef struct hx_cube_spec {
     const char *file;
     const char *vector;  /* "PX,PY,PZ" (three datasets) or "P" (one 4-D dataset); NULL: helmix layout */
-    const char *density; /* 3-D density dataset for mass weighting, or NULL */
+    const char *density; /* 3-D density dataset (--density), or NULL: the helmix layout's own
+                          * density when the file records its state (/helmix/state), else none */
     hx_order order;
     int has_box;
     double box[3];
 } hx_cube_spec;
 
 typedef struct hx_cube hx_cube;
+
+/* What a helmix file records of its physical state (/helmix/state, and the weighting of the
+ * mix in /helmix), in code units. NAN where not recorded or not asked. */
+typedef struct hx_cube_state {
+    int found;                   /* 1: the file has /helmix/state                           */
+    int mass_weight;             /* 1: the mix was asked as the share of sqrt(rho) v          */
+    int written;                 /* 1: the share is that of the field as written (shaped)    */
+    char amplitude_by[16], density_model[32];
+    double sound_speed, G;
+    int cloud;                   /* 1: the region is the cloud sphere, 0: the box            */
+    double center[3], radius;    /* cloud centre and radius; the box centre and max(L)/2 without */
+    double vrms_asked, mach_asked, virial_asked, sigma_3d_asked, sigma_s_asked;
+    double vrms, sigma_3d, mach, virial, momentum[3], momentum_rel; /* as make measured them */
+    double density_mean, sigma_s, region_mass;
+    int flags[3];                /* window, remove_bulk, remove_rotation                      */
+} hx_cube_state;
 
 /* Collective: open the file, find the datasets, check shapes and read the box (from
  * --box, else the Grid Data Format domain edges, else 1 1 1). HX_ERR_ARG with one clear line
@@ -41,8 +59,20 @@ int hx_cube_single(const hx_cube *cube);
  * as double, rows of Nx values `stride` doubles apart (stride 2*(Nx/2+1) for in-place r2c). */
 hx_status hx_cube_read(hx_cube *cube, int c, const hx_grid *g, double *dst, int64_t stride);
 
+/* 1 when a density dataset is open: --density, or the helmix layout's own. */
+int hx_cube_has_density(const hx_cube *cube);
+
 /* Collective: the request stored in a helmix file's /helmix group (found = 0 if none). */
 hx_status hx_cube_request(hx_cube *cube, hx_request *q, int *found);
+
+/* Collective: the state a helmix file records (s->found = 0 and NANs if it has none; the
+ * region then defaults to the whole box). HX_ERR_ARG if /helmix/state cannot be opened. */
+hx_status hx_cube_read_state(hx_cube *cube, hx_cube_state *s);
+
+/* What --check judges of the state: the asked value where one was asked, else the recorded
+ * one; the net momentum against 0 when make removed the bulk flow. A windowed velocity keeps
+ * no spectral slope: the slope line becomes information (tolerance NAN). Not collective. */
+void hx_cube_request_state(const hx_cube_state *s, hx_request *q);
 
 /* Collective: close. Accepts NULL, sets *cube to NULL. */
 void hx_cube_close(hx_cube **cube);

@@ -13,7 +13,19 @@
  *   div_rms = <|∇·v|^2>^(1/2) = (Σ |k·v̂|^2)^(1/2); vort_rms = (Σ |k×v̂|^2)^(1/2);
  *   div_ratio, vort_ratio: each divided by (Σ |k|^2 |v̂|^2)^(1/2), so div² + vort² ratios = 1
  *   skew_c, kurt_c: <(v_c−m)^3>/σ^3 and <(v_c−m)^4>/σ^4 − 3 (excess), σ^2 = <(v_c−m)^2>
- *   pdf[c][b]: density of (v_c − m)/σ in HX_DIAG_BINS bins over [−HX_DIAG_PDF_RANGE, +range] */
+ *   pdf[c][b]: density of (v_c − m)/σ in HX_DIAG_BINS bins over [−HX_DIAG_PDF_RANGE, +range]
+ *
+ * The state in a density rho (has_state = 1; always of v itself, whatever field is decomposed;
+ * cell centres x_i = (i + 1/2) dx, cell volume dV, sums over the box unless said otherwise):
+ *   vmean_c = <v_c>, vrms = <|v|^2>^(1/2) (volume-weighted)
+ *   mass = Σ rho dV, rho_mean = <rho>, ln_rho_mean = <ln rho>, sigma_s = <(ln rho − <ln rho>)^2>^(1/2)
+ *   region R: the cells whose centre lies within `radius` of cloud_center when cloud = 1, else the
+ *          box (radius max(L)/2); region_mass M_R = Σ_R rho dV
+ *   sigma_3d = (Σ_c [Σ_R rho v_c^2 / Σ_R rho − (Σ_R rho v_c / Σ_R rho)^2])^(1/2), the mass-weighted
+ *          dispersion about the region's mass-weighted mean (common practice)
+ *   mach = sigma_3d / sound_speed; virial = 5 (sigma_3d^2 / 3) radius / (gravity M_R)
+ *          (Bertoldi & McKee 1992, ApJ 395, 140); NAN when the sound speed or G is unknown
+ *   momentum_c = Σ rho v_c dV; momentum_rel = |momentum| / (mass vrms) */
 #ifndef HELMIX_DIAG_H
 #define HELMIX_DIAG_H
 
@@ -45,6 +57,14 @@ typedef struct hx_diag {
      * slice_n[0] * slice_n[1] values, x fastest */
     int64_t slice_n[2];
     double *slice_speed, *slice_div, *slice_vort;
+    /* the state in a density (definitions above; has_state = 0 without a density) */
+    int has_state;
+    double vmean[3], vrms;
+    double mass, rho_mean, ln_rho_mean, sigma_s;
+    int cloud;
+    double cloud_center[3], radius, region_mass;
+    double sigma_3d, sound_speed, mach, gravity, virial;
+    double momentum[3], momentum_rel;
     /* how the cube was analysed */
     double remove_scale;         /* 0: none */
     int mass_weighted;           /* 1: the field analysed is sqrt(rho) v */
@@ -94,6 +114,24 @@ hx_status hx_moments_reduce(hx_moments *m, MPI_Comm comm);
  * bins are those of (v - center)/scale, which equal the standardized bins when center and
  * scale are the mean and standard deviation (to round-off). */
 void hx_diag_set_moments(hx_diag *d, int c, const hx_moments *m);
+
+/* Sums over the cells of a velocity v in a density rho, reduced over the ranks, from which
+ * hx_diag_set_state derives the state (R: the region; m_c = Σ_R rho v_c / Σ_R rho). The
+ * deviations are summed about means known from an earlier reduction, so they keep their digits. */
+typedef struct hx_state_sums {
+    double cells, cell_volume;
+    double rho, rho_region;      /* Σ rho, Σ_R rho                                  */
+    double ln_rho, ln_rho_dev2;  /* Σ ln rho, Σ (ln rho − <ln rho>)^2 (NAN if some rho = 0) */
+    double v[3], v2[3];          /* Σ v_c, Σ v_c^2                                  */
+    double rho_v[3];             /* Σ rho v_c                                       */
+    double rho_v_region[3];      /* Σ_R rho v_c                                     */
+    double rho_dev2_region[3];   /* Σ_R rho (v_c − m_c)^2                          */
+} hx_state_sums;
+
+/* The state of d (has_state, vmean ... momentum_rel) from reduced sums s; the region (cloud,
+ * cloud_center, radius), sound_speed and gravity (NAN: unknown) must be set in d already.
+ * Not collective. */
+void hx_diag_set_state(hx_diag *d, const hx_state_sums *s);
 
 /* Energies, share and slope from the filled shell arrays (not collective): e_total,
  * e_comp, e_sol, fraction, and the slope fit over [fit_kmin, fit_kmax]. */

@@ -1,6 +1,8 @@
 /* helmix/inspect.h — measure what a velocity cube holds: Helmholtz decomposition, shell
- * spectra, gradients, one-point statistics and mid-plane slices, streaming one component at
- * a time through an in-place r2c FFTW-MPI transform with at most two complex slabs per rank. */
+ * spectra, gradients, one-point statistics and mid-plane slices, and with a density its state
+ * (mass-weighted dispersion, Mach number, virial parameter, momentum, ln rho), streaming one
+ * component at a time through an in-place r2c FFTW-MPI transform with at most two complex
+ * slabs per rank (and the density slab). */
 #ifndef HELMIX_INSPECT_H
 #define HELMIX_INSPECT_H
 
@@ -16,6 +18,8 @@ typedef struct hx_inspect_opts {
     double remove_scale; /* > 0: subtract the Gaussian-smoothed flow on this scale (code length) */
     double fit[2];       /* slope fit range in shells; {0, 0}: the request's band or [2, N/4] */
     int slices;          /* 1: compute mid-plane slices (rank 0) for the report picture       */
+    double sound_speed;  /* > 0: sound speed for the Mach number (code velocity); 0: the file's */
+    double gravity;      /* > 0: G in code units for the virial parameter; 0: the file's       */
 } hx_inspect_opts;
 
 /* Collective: analyse the cube of o into d (arrays allocated here; hx_diag_clear frees).

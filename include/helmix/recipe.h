@@ -123,6 +123,7 @@ typedef struct hx_recipe {
     /* [output] */
     char file[HX_PATH_MAX];
     hx_precision precision;
+    int parts;         /* also write the solenoidal and compressive parts of the velocity */
     /* derived by hx_recipe_validate */
     hx_code_units code;
     /* where each key (in key-table order) was last set: its line in the recipe text, or 0

@@ -21,6 +21,8 @@
 /* field names */
 #define HX_FIELD_VELOCITY "velocity"
 #define HX_FIELD_DENSITY "density"
+#define HX_FIELD_SOLENOIDAL "velocity_solenoidal"   /* [output] parts: the two parts of v */
+#define HX_FIELD_COMPRESSIVE "velocity_compressive"
 #define HX_FIELD_MAGNETIC "magnetic"           /* cell-centred B, code_magnetic            */
 #define HX_FIELD_MAGNETIC_FACE "magnetic_face" /* B on the low faces of a staggered grid    */
 

@@ -18,12 +18,23 @@ typedef struct hx_request {
     double slope_recipe;            /* the recipe's slope, reported for information (NAN: none) */
     double recorded_fraction;       /* share make says it wrote (free draws)              */
     double expected_fraction;       /* ensemble expectation, reported for information     */
-    double tol_vrms, tol_fraction, tol_slope; /* vrms tolerance is relative              */
+    double tol_vrms, tol_fraction, tol_slope; /* vrms tolerance is relative; NAN: the line
+                                               * is information only                      */
     double fit_kmin, fit_kmax;      /* band of the request, for the slope fit (0: none)    */
     int single;                     /* data stored in single precision                    */
+    int zero_mean;                  /* 1: the field is a synthesis whose mean vanishes; 0: it
+                                     * was shaped afterwards (window, bulk removal, weighting) */
+    /* the state in a density (a helmix file's /helmix/state): the asked value where one was
+     * asked (asked_* = 1), else the value make measured on what it wrote; NAN: not judged */
+    double sigma_3d, mach, virial, sigma_s, density_mean;
+    int asked_sigma_3d, asked_mach, asked_virial, asked_sigma_s;
+    double momentum_rel;            /* |P| / (M vrms): 0 when make removed the bulk flow    */
+    int momentum_removed;
+    double tol_state;               /* relative; for sigma_s absolute, times max(1, sigma_s) */
+    double tol_momentum;            /* absolute, on |P| / (M vrms)                          */
 } hx_request;
 
-#define HX_VERDICT_MAX 12
+#define HX_VERDICT_MAX 20
 
 typedef struct hx_verdict_line {
     char quantity[48];

@@ -16,7 +16,9 @@ static void inspect_usage(FILE *out)
             "usage: mpiexec -n P helmix inspect FILE [options]\n\n"
             "Measure what a velocity cube holds: mean and rms, kinetic energy in compressive and\n"
             "solenoidal modes, shell spectra, slope, rms divergence and vorticity, one-point PDFs.\n"
-            "Reads helmix files and any HDF5 cube.\n\n"
+            "With a density also its state: mass-weighted 3D dispersion sigma_3D, Mach number,\n"
+            "virial parameter 5 sigma_1D^2 R / (G M) (Bertoldi & McKee 1992), mean and sigma_s of\n"
+            "ln rho, net momentum. Reads helmix files and any HDF5 cube.\n\n"
             "input:\n"
             "  --vector PX,PY,PZ       three 3-D datasets holding vx, vy, vz\n"
             "  --vector P              one 4-D dataset with a component axis of length 3 (first or last)\n"
@@ -25,14 +27,26 @@ static void inspect_usage(FILE *out)
             "                          xyz = (Nx, Ny, Nz), z fastest\n"
             "  --box Lx,Ly,Lz          box size when the file does not record it (default 1,1,1)\n"
             "  --density PATH          mass weighting: decompose sqrt(rho) v (common practice for\n"
-            "                          compressible turbulence), PATH a 3-D dataset of the same shape\n"
+            "                          compressible turbulence), PATH a 3-D dataset of the same shape;\n"
+            "                          also reports the state. A helmix file with a density reports\n"
+            "                          its state without it, and decomposes sqrt(rho) v by itself when\n"
+            "                          its mix was asked for sqrt(rho) v ([mix] weight = mass)\n"
+            "state (with a density):\n"
+            "  --sound-speed CS        sound speed in code velocity for the Mach number sigma_3D / CS\n"
+            "                          (default: the one a helmix file records; none for other files)\n"
+            "  --gravity G             gravitational constant in code units for the virial parameter\n"
+            "                          (default: a helmix file's; none for other files). The region is\n"
+            "                          a helmix file's cloud, else the whole box with R = max(L)/2\n"
             "analysis:\n"
             "  --remove-scale L        subtract the flow smoothed with a Gaussian of width L (code\n"
             "                          length) first, so bulk motions on scales above L are not counted\n"
             "  --fit KMIN,KMAX         shells of the slope fit (default: the recorded band, else [2, N/4])\n"
             "verdict:\n"
             "  --check                 compare with the request recorded in the file's /helmix group\n"
-            "                          (or with --expect); exit 0 if every line passes, 1 if not\n"
+            "                          and its state (/helmix/state: the asked Mach number, virial\n"
+            "                          parameter, sigma_3D or sigma_s, else the values make measured;\n"
+            "                          zero net momentum when make removed the bulk flow), or with\n"
+            "                          --expect; exit 0 if every line passes, 1 if not\n"
             "  --expect fraction=F,slope=S,vrms=V   what the cube should hold (any subset)\n"
             "  --tolerance fraction=F,slope=S,vrms=V  tolerances (vrms relative)\n"
             "output:\n"
@@ -85,6 +99,11 @@ static hx_status option_value(hx_inspect_opts *o, inspect_args *a, const char *o
         hx_status st = numbers(opt, val, &o->remove_scale, 1);
         if (st != HX_OK) return st;
         if (!(o->remove_scale > 0)) return hx_error_set(HX_ERR_ARG, "--remove-scale %s: must be a length > 0", val);
+    } else if (!strcmp(opt, "--sound-speed") || !strcmp(opt, "--gravity")) {
+        double *dst = opt[2] == 's' ? &o->sound_speed : &o->gravity;
+        hx_status st = numbers(opt, val, dst, 1);
+        if (st != HX_OK) return st;
+        if (!(*dst > 0)) return hx_error_set(HX_ERR_ARG, "%s %s: must be a number > 0 (code units)", opt, val);
     } else if (!strcmp(opt, "--fit")) {
         hx_status st = numbers(opt, val, o->fit, 2);
         if (st != HX_OK) return st;

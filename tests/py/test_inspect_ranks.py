@@ -11,8 +11,10 @@ Every number of the JSON report must agree with the 1-rank report to 1e-12
 relative (the sums are the same up to the order of additions, i.e. round-off;
 common practice). Values that are zero up to round-off are compared
 absolutely: means below 1e-14 rms, shell energies below 1e-14 e_total,
-skewness and kurtosis to 1e-12 absolute; the share of a shell holding only
-round-off (< 1e-10 e_total) is a ratio of noise and is left out.
+skewness and kurtosis to 1e-12 absolute, and in the state of v in the density
+the mean velocity below 1e-14 of its rms, the mean of ln rho below
+1e-14 (1 + sigma_s), the momentum below 1e-14 M vrms; the share of a shell
+holding only round-off (< 1e-10 e_total) is a ratio of noise and is left out.
 """
 
 import sys
@@ -29,8 +31,14 @@ SRC = "rank-count invariance: same sums in another order (round-off only, common
 def floors(js):
     et = js["energy"]["total"]
     vs = js["rms_3d"]
-    return {"mean": 1e-14 * vs, "shells.energy": 1e-14 * et, "shells.compressive": 1e-14 * et,
-            "shells.solenoidal": 1e-14 * et, "skewness": 1e-12, "excess_kurtosis": 1e-12}
+    out = {"mean": 1e-14 * vs, "shells.energy": 1e-14 * et, "shells.compressive": 1e-14 * et,
+           "shells.solenoidal": 1e-14 * et, "skewness": 1e-12, "excess_kurtosis": 1e-12}
+    st = js.get("state")
+    if isinstance(st, dict):  # the state in a density: values zero by construction, on their scales
+        sv = st["velocity_rms"]
+        out.update({"state.velocity_mean": 1e-14 * sv, "state.ln_density_mean": 1e-14 * (1.0 + st["sigma_s"]),
+                    "state.momentum": 1e-14 * st["mass"] * sv, "state.momentum_relative": 1e-14})
+    return out
 
 
 def noise_shells(js):

@@ -1,6 +1,7 @@
 /* test_verdict.c — requested versus measured: each line passes inside its tolerance and
- * fails outside it, information lines never fail, and --expect/--tolerance text is parsed
- * or refused with a clear message. */
+ * fails outside it, information lines never fail, the state in a density is judged against
+ * the asked or recorded values, and --expect/--tolerance text is parsed or refused with a
+ * clear message. */
 #include <math.h>
 
 #include "helmix/verdict.h"
@@ -70,9 +71,133 @@ static void test_parse(void)
     CHECK(hx_request_parse(&q, "vrms", 0, "--expect") == HX_ERR_ARG);
 }
 
+/* A cube in a density whose state matches the request below exactly. */
+static hx_diag state_cube(void)
+{
+    hx_diag d = cube(0.3, 2.0, 2.0);
+    d.has_state = 1;
+    d.sigma_3d = 0.65, d.mach = 3.5, d.virial = 1.0, d.sigma_s = 0.72, d.rho_mean = 88.5;
+    d.momentum_rel = 0.0;
+    d.vrms = 0.64, d.rms3 = 2.0; /* sqrt(rho) v analysed: rms3 is not the rms of v */
+    return d;
+}
+
+static hx_request state_request(int single)
+{
+    hx_request q;
+    hx_request_defaults(&q, single, 0);
+    q.sigma_3d = 0.65, q.mach = 3.5, q.virial = 1.0, q.sigma_s = 0.72, q.density_mean = 88.5;
+    q.asked_virial = 1; /* amplitude by the virial parameter: the others are as make measured them */
+    q.momentum_removed = 1;
+    return q;
+}
+
+/* The state lines of a cube in a density (helmix specification: the asked value where one was
+ * asked, else the recorded one; tolerances from the stored precision, 1e-5 single, 1e-9 double;
+ * |P|/(M vrms) against 0 when make removed the bulk flow). */
+static void test_state(void)
+{
+    hx_verdict v;
+    hx_request q = state_request(1);
+    hx_diag d = state_cube();
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && v.n == 6);
+    CHECK(line_passed(&v, "virial parameter") == 1);               /* asked: no suffix */
+    CHECK(line_passed(&v, "Mach number as made") == 1);            /* recorded: "as made" */
+    CHECK(line_passed(&v, "dispersion sigma_3D as made") == 1);
+    CHECK(line_passed(&v, "sigma_s of ln rho as made") == 1);
+    CHECK(line_passed(&v, "mean density as made") == 1);
+    CHECK(line_passed(&v, "net momentum |P|/(M vrms)") == 1);
+    /* inside and outside the relative tolerance, one line at a time */
+    d = state_cube(), d.virial = 1.0 + 0.9e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed);
+    d = state_cube(), d.virial = 1.0 + 1.1e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "virial parameter") == 0 && line_passed(&v, "Mach number as made") == 1);
+    d = state_cube(), d.mach = 3.5 * 1.1, d.sigma_3d = 0.65 * 1.1; /* velocity scaled by 1.1 */
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "Mach number as made") == 0 && line_passed(&v, "dispersion sigma_3D as made") == 0);
+    CHECK(line_passed(&v, "sigma_s of ln rho as made") == 1);
+    d = state_cube(), d.rho_mean = 88.5 * 1.001;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "mean density as made") == 0);
+    /* sigma_s is held absolutely (ln rho is dimensionless): a uniform density passes at 0 */
+    q.sigma_s = 0.0, d = state_cube(), d.sigma_s = 1e-12;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(line_passed(&v, "sigma_s of ln rho as made") == 1);
+    d.sigma_s = 2e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(line_passed(&v, "sigma_s of ln rho as made") == 0);
+    /* momentum: below the precision's bound when the bulk flow was removed */
+    q = state_request(1), d = state_cube(), d.momentum_rel = 9e-6;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(line_passed(&v, "net momentum |P|/(M vrms)") == 1);
+    d.momentum_rel = 2e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "net momentum |P|/(M vrms)") == 0);
+    /* ... else equal to what make recorded */
+    q.momentum_removed = 0, q.momentum_rel = 0.0365, d.momentum_rel = 0.0365 + 5e-6;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(line_passed(&v, "net momentum as made") == 1);
+    d.momentum_rel = 0.0;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(line_passed(&v, "net momentum as made") == 0);
+    /* double precision holds 1e-9 */
+    q = state_request(0), d = state_cube(), d.virial = 1.0 + 5e-10;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed);
+    d.virial = 1.0 + 5e-9;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "virial parameter") == 0);
+    /* an expected Mach number cannot pass without a sound speed (NAN measured) */
+    q = state_request(1), d = state_cube(), d.mach = NAN;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "Mach number as made") == 0);
+    /* a windowed velocity keeps no slope: with tolerance NAN the slope is information only */
+    q = state_request(1), q.has_slope = 1, q.slope = 1.87, q.tol_slope = NAN, d = state_cube(), d.slope = 1.15;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && line_passed(&v, "spectral slope") == 1 && isnan(v.line[0].tolerance));
+    /* a cube without a density has no state lines, whatever the request */
+    q = state_request(1), d = state_cube(), d.has_state = 0;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && v.n == 0);
+}
+
+/* rms and mean are those of v itself when sqrt(rho) v is decomposed, and a field shaped after
+ * its synthesis (fraction_of = written) promises no zero mean (helmix specification). */
+static void test_weighted_rms(void)
+{
+    hx_verdict v;
+    hx_request q = state_request(1);
+    q.has_vrms = 1, q.vrms = 0.64;
+    hx_diag d = state_cube();
+    d.mass_weighted = 1, d.mean[2] = 0.5; /* the mean of sqrt(rho) v, not judged */
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && line_passed(&v, "rms velocity") == 1 && line_passed(&v, "largest mean component") == 1);
+    d.vmean[2] = 0.18;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "largest mean component") == 0);
+    q.zero_mean = 0;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && line_passed(&v, "largest mean component") == -1);
+    d.mass_weighted = 0; /* v itself analysed: its own rms, 2.0, is judged */
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "rms velocity") == 0);
+    /* every line fits: rms, mean, share, worst shell, slope, recipe slope and six of the state */
+    q = state_request(0);
+    q.has_vrms = q.has_fraction = q.has_shell_fraction = q.has_slope = 1;
+    q.vrms = 0.64, q.fraction = 0.3, q.slope = 2.0, q.slope_recipe = 1.9, q.expected_fraction = 0.3;
+    d = state_cube(), d.mass_weighted = 1;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.n == 12 && v.n <= HX_VERDICT_MAX);
+}
+
 int main(void)
 {
     test_judge();
     test_parse();
+    test_state();
+    test_weighted_rms();
     return hx_test_finish();
 }
