@@ -12,11 +12,9 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "draw.h"
 #include "helmix/version.h"
 
-#ifndef M_PI /* POSIX, not ISO C */
-#define M_PI 3.14159265358979323846
-#endif
 
 /* ---- page geometry (logical units; one unit is one PNG pixel) ---------------------------- */
 
@@ -27,420 +25,8 @@ enum { PAGE_W = 1800, PAGE_H = 1300, MARGIN = 60 };
  * relative noise near 1e-7 in amplitude, 1e-14 in energy, far under this floor. */
 #define DYN_RANGE 1e-10
 
-enum { FS_TITLE = 30, FS_SUB = 16, FS_PANEL = 18, FS_AXIS = 16, FS_TICK = 15, FS_SMALL = 14 };
-enum { LUT_N = 256, MAX_TICKS = 160, PDF_CURVE = 201 };
+enum { LUT_N = 256, PDF_CURVE = 201 };
 enum { SLICE_W = 380, SLICE_H = 310, SLICE_STEP = 550 }; /* largest slice image; room for its colour bar beside */
-
-/* ---- colours and line styles ----------------------------------------------------------- */
-
-typedef struct rgb { double r, g, b; } rgb;
-
-static const rgb INK = {0.11, 0.13, 0.18};
-static const rgb MUTED = {0.40, 0.43, 0.49};
-static const rgb AXIS = {0.35, 0.38, 0.43};
-static const rgb GRID = {0.90, 0.91, 0.93};
-static const rgb RULE = {0.80, 0.82, 0.85};
-static const rgb BAND = {0.96, 0.94, 0.88};
-static const rgb COMP = {0.80, 0.34, 0.22};
-static const rgb SOL = {0.17, 0.43, 0.66};
-static const rgb GUIDE = {0.76, 0.55, 0.05};
-static const rgb NORMAL = {0.74, 0.76, 0.79};
-static const rgb COMPONENT[3] = {{0.13, 0.58, 0.53}, {0.87, 0.55, 0.12}, {0.49, 0.35, 0.68}};
-
-typedef struct style {
-    rgb col;
-    double width;
-    double dash[2]; /* on, off; dash[0] == 0: solid */
-    double marker;  /* radius of the dot at every point, 0: none */
-} style;
-
-static void set_rgb(cairo_t *cr, rgb c) { cairo_set_source_rgb(cr, c.r, c.g, c.b); }
-
-static void apply_style(cairo_t *cr, const style *s)
-{
-    set_rgb(cr, s->col);
-    cairo_set_line_width(cr, s->width);
-    cairo_set_dash(cr, s->dash, s->dash[0] > 0 ? 2 : 0, 0);
-    /* round caps turn a short "on" length into dots */
-    cairo_set_line_cap(cr, s->dash[0] > 0 && s->dash[0] < 3 ? CAIRO_LINE_CAP_ROUND : CAIRO_LINE_CAP_BUTT);
-    cairo_set_line_join(cr, CAIRO_LINE_JOIN_ROUND);
-}
-
-static void line(cairo_t *cr, double xa, double ya, double xb, double yb)
-{
-    cairo_move_to(cr, xa, ya);
-    cairo_line_to(cr, xb, yb);
-    cairo_stroke(cr);
-}
-
-/* ---- text ------------------------------------------------------------------------------ */
-
-static void font(cairo_t *cr, double size, int bold)
-{
-    cairo_select_font_face(cr, "sans", CAIRO_FONT_SLANT_NORMAL,
-                           bold ? CAIRO_FONT_WEIGHT_BOLD : CAIRO_FONT_WEIGHT_NORMAL);
-    cairo_set_font_size(cr, size);
-}
-
-static double font_size(cairo_t *cr)
-{
-    cairo_matrix_t m;
-    cairo_get_font_matrix(cr, &m);
-    return m.yy;
-}
-
-static double plain_width(cairo_t *cr, const char *s)
-{
-    cairo_text_extents_t e;
-    cairo_text_extents(cr, s, &e);
-    return e.x_advance;
-}
-
-/* Width of s, drawn with its baseline starting at (x, y) when draw is set. s is plain text
- * with one piece of markup, "^{...}" for a raised exponent in smaller type, which the toy
- * text API lacks and labels such as k^{-5/3} or 10^{-4} need. */
-static double rich(cairo_t *cr, const char *s, double x, double y, int draw)
-{
-    double size = font_size(cr), w = 0;
-    char seg[256];
-    while (*s) {
-        int sup = strncmp(s, "^{", 2) == 0;
-        const char *start = sup ? s + 2 : s, *end = sup ? strchr(start, '}') : strstr(start, "^{");
-        if (!end) end = start + strlen(start);
-        size_t n = (size_t)(end - start) < sizeof seg ? (size_t)(end - start) : sizeof seg - 1;
-        while (n > 0 && start + n < end && ((unsigned char)start[n] & 0xC0) == 0x80) n--; /* whole UTF-8 */
-        memcpy(seg, start, n);
-        seg[n] = '\0';
-        cairo_set_font_size(cr, sup ? 0.72 * size : size);
-        if (draw) cairo_move_to(cr, x + w, y - (sup ? 0.42 * size : 0)), cairo_show_text(cr, seg);
-        w += plain_width(cr, seg) + (sup ? 1 : 0);
-        s = sup && *end ? end + 1 : end;
-    }
-    cairo_set_font_size(cr, size);
-    return w;
-}
-
-static double text_width(cairo_t *cr, const char *s) { return rich(cr, s, 0, 0, 0); }
-
-/* Draw s anchored at (x, y): ax 0/0.5/1 = left/centre/right; ay 0 = baseline, 0.5 = middle
- * and 1 = top of the capitals (cap height ~0.73 of the size for a sans face), so labels
- * line up with ticks whatever their descenders. */
-static void text(cairo_t *cr, const char *s, double x, double y, double ax, double ay)
-{
-    rich(cr, s, x - ax * text_width(cr, s), y + ay * 0.73 * font_size(cr), 1);
-}
-
-/* Same, turned a quarter left so it reads upwards (y axis titles); (x, y) is the baseline
- * centre. */
-static void text_up(cairo_t *cr, const char *s, double x, double y)
-{
-    cairo_save(cr);
-    cairo_translate(cr, x, y);
-    cairo_rotate(cr, -M_PI / 2);
-    text(cr, s, 0, 0, 0.5, 0);
-    cairo_restore(cr);
-}
-
-/* Length of the valid UTF-8 character at p, 0 if it is none, by cairo's rules (no overlong
- * forms, surrogates, values past U+10FFFF or noncharacters); control characters count as
- * invalid since the font has no glyph for them. */
-static int utf8_len(const unsigned char *p)
-{
-    static const uint32_t least[5] = {0, 0, 0x80, 0x800, 0x10000};
-    if (p[0] < 0x80) return p[0] >= 0x20 && p[0] != 0x7f;
-    int n = p[0] >= 0xF8 ? 0 : p[0] >= 0xF0 ? 4 : p[0] >= 0xE0 ? 3 : p[0] >= 0xC0 ? 2 : 0;
-    if (!n) return 0;
-    uint32_t cp = p[0] & (0x7Fu >> n);
-    for (int i = 1; i < n; i++) {
-        if ((p[i] & 0xC0) != 0x80) return 0; /* also stops at the terminating NUL */
-        cp = cp << 6 | (p[i] & 0x3Fu);
-    }
-    if (cp < least[n] || cp > 0x10FFFF || (cp >= 0xD800 && cp <= 0xDFFF) || (cp >= 0xFDD0 && cp <= 0xFDEF) ||
-        (cp & 0xFFFE) == 0xFFFE)
-        return 0;
-    return n;
-}
-
-/* The first line of src as valid UTF-8, invalid bytes shown as '?': cairo refuses invalid
- * text and would fail the whole page over a file name in a legacy encoding. */
-static void clean_line(char *dst, size_t len, const char *src)
-{
-    const unsigned char *p = (const unsigned char *)src;
-    size_t o = 0;
-    while (*p && *p != '\n' && *p != '\r') {
-        int n = utf8_len(p);
-        if (o + (size_t)(n ? n : 1) + 1 > len) break;
-        if (n) memcpy(dst + o, p, (size_t)n), o += (size_t)n, p += n;
-        else dst[o++] = '?', p++;
-    }
-    dst[o] = '\0';
-}
-
-/* Format v with fmt (one double conversion) and write hyphens as the typographic minus,
- * which reads as a sign rather than a dash; "n/a" for a missing value. */
-static const char *num(char *buf, size_t len, const char *fmt, double v)
-{
-    char tmp[64];
-    if (!isfinite(v)) {
-        snprintf(buf, len, "n/a");
-        return buf;
-    }
-    snprintf(tmp, sizeof tmp, fmt, v);
-    size_t o = 0;
-    for (const char *p = tmp; *p && o + 4 < len; p++) {
-        if (*p == '-') memcpy(buf + o, "\xe2\x88\x92", 3), o += 3;
-        else buf[o++] = *p;
-    }
-    buf[o] = '\0';
-    return buf;
-}
-
-/* ---- frames, axes and ticks ------------------------------------------------------------ */
-
-typedef struct axis {
-    double lo, hi;     /* shown range; its log10 on a log axis */
-    int log;           /* logarithmic axis */
-    int power;         /* log axis labelled 10^n rather than plain numbers */
-    double step;       /* linear axis: tick spacing */
-    int label_every;   /* linear axis: label every n-th tick */
-    const char *title; /* with units */
-} axis;
-
-typedef struct frame { double x, y, w, h; axis ax, ay; } frame;
-
-typedef struct tick { double v; int major; } tick;
-
-static double fx(const frame *f, double v)
-{
-    double t = f->ax.log ? log10(v) : v;
-    return f->x + (t - f->ax.lo) / (f->ax.hi - f->ax.lo) * f->w;
-}
-
-static double fy(const frame *f, double v)
-{
-    double t = f->ay.log ? log10(v) : v;
-    return f->y + f->h - (t - f->ay.lo) / (f->ay.hi - f->ay.lo) * f->h;
-}
-
-static int linear_ticks(const axis *a, tick *t)
-{
-    int n = 0;
-    long i0 = lround(ceil(a->lo / a->step - 1e-9)), i1 = lround(floor(a->hi / a->step + 1e-9));
-    for (long i = i0; i <= i1 && n < MAX_TICKS; i++, n++) {
-        t[n].v = (double)i * a->step;
-        t[n].major = i % a->label_every == 0;
-    }
-    return n;
-}
-
-/* Log axis: labels at the decades (every few decades on a long axis so at most ~6 show),
- * also at 2 and 5 when the axis is shorter than two decades, minor ticks at the integer
- * multiples unless the axis is long enough to make them a smear. */
-static int log_ticks(const axis *a, tick *t)
-{
-    double span = a->hi - a->lo;
-    int every = span > 6.5 ? (int)ceil(span / 6.0) : 1, minor = span <= 6.5, dense = span < 2.0;
-    int n = 0;
-    for (int e = (int)floor(a->lo); e <= (int)ceil(a->hi); e++)
-        for (int m = 1; m <= (minor ? 9 : 1) && n < MAX_TICKS; m++) {
-            double lv = e + log10((double)m);
-            if (lv < a->lo - 1e-9 || lv > a->hi + 1e-9) continue;
-            t[n].v = pow(10.0, lv);
-            t[n++].major = m == 1 ? e % every == 0 : dense && (m == 2 || m == 5);
-        }
-    return n;
-}
-
-static int ticks(const axis *a, tick *t) { return a->log ? log_ticks(a, t) : linear_ticks(a, t); }
-
-/* Draw a tick label; returns its width. */
-static double tick_label(cairo_t *cr, const axis *a, double v, double x, double y, double ax, double ay)
-{
-    char buf[48], e[32];
-    if (a->log && a->power) snprintf(buf, sizeof buf, "10^{%s}", num(e, sizeof e, "%.0f", round(log10(v)) + 0.0));
-    else num(buf, sizeof buf, "%g", fabs(v) < 1e-12 ? 0.0 : v);
-    text(cr, buf, x, y, ax, ay);
-    return text_width(cr, buf);
-}
-
-static void x_axis(cairo_t *cr, const frame *f)
-{
-    tick t[MAX_TICKS];
-    int n = ticks(&f->ax, t);
-    double yb = f->y + f->h;
-    font(cr, FS_TICK, 0);
-    cairo_set_line_width(cr, 1.0);
-    for (int i = 0; i < n; i++) {
-        double x = fx(f, t[i].v);
-        if (t[i].major) set_rgb(cr, GRID), line(cr, x, f->y, x, yb);
-        set_rgb(cr, AXIS);
-        line(cr, x, yb, x, yb + (t[i].major ? 7 : 4));
-        if (t[i].major) set_rgb(cr, INK), tick_label(cr, &f->ax, t[i].v, x, yb + 12, 0.5, 1);
-    }
-    set_rgb(cr, AXIS);
-    cairo_set_line_width(cr, 1.4);
-    line(cr, f->x, yb, f->x + f->w, yb);
-    font(cr, FS_AXIS, 0);
-    set_rgb(cr, INK);
-    text(cr, f->ax.title, f->x + f->w / 2, yb + 52, 0.5, 0);
-}
-
-static void y_axis(cairo_t *cr, const frame *f)
-{
-    tick t[MAX_TICKS];
-    int n = ticks(&f->ay, t);
-    double wmax = 0;
-    font(cr, FS_TICK, 0);
-    cairo_set_line_width(cr, 1.0);
-    for (int i = 0; i < n; i++) {
-        double y = fy(f, t[i].v);
-        if (t[i].major) set_rgb(cr, GRID), line(cr, f->x, y, f->x + f->w, y);
-        set_rgb(cr, AXIS);
-        line(cr, f->x - (t[i].major ? 7 : 4), y, f->x, y);
-        if (!t[i].major) continue;
-        set_rgb(cr, INK);
-        double w = tick_label(cr, &f->ay, t[i].v, f->x - 11, y, 1, 0.5);
-        wmax = w > wmax ? w : wmax;
-    }
-    set_rgb(cr, AXIS);
-    cairo_set_line_width(cr, 1.4);
-    line(cr, f->x, f->y, f->x, f->y + f->h);
-    font(cr, FS_AXIS, 0);
-    set_rgb(cr, INK);
-    text_up(cr, f->ay.title, f->x - 24 - wmax, f->y + f->h / 2);
-}
-
-static void panel_title(cairo_t *cr, const frame *f, const char *title)
-{
-    font(cr, FS_PANEL, 1);
-    set_rgb(cr, INK);
-    text(cr, title, f->x, f->y - 16, 0, 0);
-}
-
-static void note(cairo_t *cr, const char *s, double x, double y)
-{
-    cairo_select_font_face(cr, "sans", CAIRO_FONT_SLANT_ITALIC, CAIRO_FONT_WEIGHT_NORMAL);
-    cairo_set_font_size(cr, FS_AXIS);
-    set_rgb(cr, MUTED);
-    text(cr, s, x, y, 0.5, 0.5);
-}
-
-/* Light placeholder for a panel whose data is missing, with a short note in the middle. */
-static void placeholder(cairo_t *cr, double x, double y, double w, double h, const char *s)
-{
-    cairo_set_source_rgb(cr, 0.95, 0.955, 0.965);
-    cairo_rectangle(cr, x, y, w, h);
-    cairo_fill(cr);
-    note(cr, s, x + w / 2, y + h / 2);
-}
-
-/* ---- data series ----------------------------------------------------------------------- */
-
-/* Points i0 .. n-1 at x_i = x0 + i dx with value y_i, or y_i / den_i when den is given.
- * Points whose den (without den: whose value) is not above floor are skipped, so shells that
- * hold only round-off neither plunge off the axis nor show a share of nothing. */
-typedef struct series {
-    const double *y, *den;
-    double floor, x0, dx;
-    int i0, n;
-} series;
-
-static int point(const frame *f, const series *s, int i, double *px, double *py)
-{
-    double x = s->x0 + i * s->dx, y = s->y[i];
-    if (!((s->den ? s->den[i] : y) > s->floor)) return 0;
-    if (s->den) y /= s->den[i];
-    if (!isfinite(x) || !isfinite(y) || (f->ax.log && x <= 0) || (f->ay.log && y <= 0)) return 0;
-    *px = fx(f, x), *py = fy(f, y);
-    return 1;
-}
-
-/* A missing point breaks the line instead of dragging it to the axis; everything is clipped
- * to the frame. */
-static void draw_series(cairo_t *cr, const frame *f, const series *s, const style *st)
-{
-    double x, y;
-    int open = 0;
-    cairo_save(cr);
-    cairo_rectangle(cr, f->x, f->y, f->w, f->h);
-    cairo_clip(cr);
-    for (int i = s->i0; i < s->n; i++) {
-        if (!point(f, s, i, &x, &y)) open = 0;
-        else if (open) cairo_line_to(cr, x, y);
-        else cairo_move_to(cr, x, y), open = 1;
-    }
-    apply_style(cr, st);
-    cairo_stroke(cr);
-    for (int i = s->i0; i < s->n && st->marker > 0; i++) {
-        if (!point(f, s, i, &x, &y)) continue;
-        cairo_new_sub_path(cr);
-        cairo_arc(cr, x, y, st->marker, 0, 2 * M_PI);
-    }
-    cairo_fill(cr);
-    cairo_restore(cr);
-}
-
-static void hline(cairo_t *cr, const frame *f, double v, const style *st)
-{
-    if (!isfinite(v) || v < f->ay.lo || v > f->ay.hi) return;
-    apply_style(cr, st);
-    line(cr, f->x, fy(f, v), f->x + f->w, fy(f, v));
-    cairo_set_dash(cr, NULL, 0, 0);
-}
-
-/* Short sample of a style for legends, centred vertically on y. */
-static void sample(cairo_t *cr, const style *st, double x, double y, double len)
-{
-    apply_style(cr, st);
-    line(cr, x, y, x + len, y);
-    cairo_set_dash(cr, NULL, 0, 0);
-    if (st->marker > 0) {
-        cairo_arc(cr, x + len / 2, y, st->marker, 0, 2 * M_PI);
-        cairo_fill(cr);
-    }
-}
-
-/* ---- legends --------------------------------------------------------------------------- */
-
-typedef struct entry {
-    style st;
-    int band; /* draw a filled swatch of st.col instead of a line */
-    char label[96];
-} entry;
-
-enum { LEG_ROW = 24, LEG_SAMPLE = 34, LEG_PAD = 12, LEGEND_GAP = 22, LEGEND_W = 214 };
-
-static void legend_box(cairo_t *cr, double x, double y, double w, double h)
-{
-    cairo_rectangle(cr, x, y, w, h);
-    cairo_set_source_rgba(cr, 1, 1, 1, 0.92);
-    cairo_fill_preserve(cr);
-    set_rgb(cr, RULE);
-    cairo_set_line_width(cr, 1.0);
-    cairo_stroke(cr);
-}
-
-/* Legend rows in a box with its top-left corner at (x, y), then plain notes under a thin
- * rule. The box sits beside the panel, where it can never hide data. */
-static void legend(cairo_t *cr, double x, double y, const entry *e, int n, char (*notes)[96], int nnotes)
-{
-    double wmax = 0;
-    font(cr, FS_SMALL, 0);
-    for (int i = 0; i < n; i++) wmax = fmax(wmax, LEG_SAMPLE + 10 + text_width(cr, e[i].label));
-    for (int i = 0; i < nnotes; i++) wmax = fmax(wmax, text_width(cr, notes[i]));
-    double w = fmax(wmax + 2 * LEG_PAD, LEGEND_W), h = (n + nnotes) * LEG_ROW + 2 * LEG_PAD - 4 + (nnotes ? 10 : 0);
-    legend_box(cr, x, y, w, h);
-    double cy = y + LEG_PAD + LEG_ROW / 2 - 2;
-    for (int i = 0; i < n; i++, cy += LEG_ROW) {
-        if (e[i].band) set_rgb(cr, e[i].st.col), cairo_rectangle(cr, x + LEG_PAD, cy - 7, LEG_SAMPLE, 14), cairo_fill(cr);
-        else sample(cr, &e[i].st, x + LEG_PAD, cy, LEG_SAMPLE);
-        set_rgb(cr, INK);
-        text(cr, e[i].label, x + LEG_PAD + LEG_SAMPLE + 10, cy, 0, 0.5);
-    }
-    if (nnotes) set_rgb(cr, RULE), cairo_set_line_width(cr, 1), line(cr, x + LEG_PAD, cy - 6, x + w - LEG_PAD, cy - 6);
-    cy += 10;
-    for (int i = 0; i < nnotes; i++, cy += LEG_ROW) set_rgb(cr, INK), text(cr, notes[i], x + LEG_PAD, cy, 0, 0.5);
-}
 
 /* ---- shell spectra and compressive share ----------------------------------------------- */
 
@@ -498,9 +84,9 @@ static int fit_range_ok(const hx_diag *d)
 
 static void fit_band(cairo_t *cr, const frame *f, const hx_diag *d)
 {
-    double xa = fmax(fx(f, d->fit_kmin), f->x), xb = fmin(fx(f, d->fit_kmax), f->x + f->w);
+    double xa = fmax(hx_draw_fx(f, d->fit_kmin), f->x), xb = fmin(hx_draw_fx(f, d->fit_kmax), f->x + f->w);
     if (xb <= xa) return;
-    set_rgb(cr, BAND);
+    hx_draw_set_rgb(cr, BAND);
     cairo_rectangle(cr, xa, f->y, xb - xa, f->h);
     cairo_fill(cr);
 }
@@ -517,8 +103,8 @@ static void guide_line(cairo_t *cr, const frame *f, const hx_diag *d, const shel
     cairo_save(cr);
     cairo_rectangle(cr, f->x, f->y, f->w, f->h);
     cairo_clip(cr);
-    apply_style(cr, st);
-    line(cr, fx(f, k0), fy(f, e0), fx(f, k1), fy(f, e1));
+    hx_draw_apply_style(cr, st);
+    hx_draw_line(cr, hx_draw_fx(f, k0), hx_draw_fy(f, e0), hx_draw_fx(f, k1), hx_draw_fy(f, e1));
     cairo_restore(cr);
 }
 
@@ -532,35 +118,35 @@ static void spectra_legend(cairo_t *cr, const frame *f, const hx_diag *d, double
     e[n++] = (entry){sty[2], 0, "solenoidal"};
     if (isfinite(slope)) {
         e[n] = (entry){sty[3], 0, ""};
-        snprintf(e[n++].label, sizeof e[0].label, "requested k^{%s}", num(a, sizeof a, "%.2f", -slope));
+        snprintf(e[n++].label, sizeof e[0].label, "requested k^{%s}", hx_draw_num(a, sizeof a, "%.2f", -slope));
     }
     if (fit_range_ok(d)) {
         e[n] = (entry){{BAND, 0, {0, 0}, 0}, 1, ""};
-        snprintf(e[n++].label, sizeof e[0].label, "fit range k = %s – %s", num(a, sizeof a, "%g", d->fit_kmin),
-                 num(b, sizeof b, "%g", d->fit_kmax));
+        snprintf(e[n++].label, sizeof e[0].label, "fit range k = %s – %s", hx_draw_num(a, sizeof a, "%g", d->fit_kmin),
+                 hx_draw_num(b, sizeof b, "%g", d->fit_kmax));
     }
     if (isfinite(d->slope))
-        snprintf(notes[nn++], sizeof notes[0], "fitted slope %s ± %s", num(a, sizeof a, "%.3f", d->slope),
-                 num(b, sizeof b, "%.3f", d->slope_err));
+        snprintf(notes[nn++], sizeof notes[0], "fitted slope %s ± %s", hx_draw_num(a, sizeof a, "%.3f", d->slope),
+                 hx_draw_num(b, sizeof b, "%.3f", d->slope_err));
     else snprintf(notes[nn++], sizeof notes[0], "fitted slope n/a");
     snprintf(notes[nn++], sizeof notes[0], "(E ∝ k^{−slope})");
-    legend(cr, f->x + f->w + LEGEND_GAP, f->y, e, n, notes, nn);
+    hx_draw_legend(cr, f->x + f->w + LEGEND_GAP, f->y, e, n, notes, nn);
 }
 
 static void spectra_panel(cairo_t *cr, const hx_diag *d, const shells *r, double slope, frame f)
 {
     const style sty[4] = {{INK, 2.6, {0, 0}, 3.0}, {COMP, 2.0, {0, 0}, 2.4}, {SOL, 2.0, {0, 0}, 2.4},
                           {GUIDE, 2.4, {10, 6}, 0}};
-    panel_title(cr, &f, "Shell spectra");
+    hx_draw_panel_title(cr, &f, "Shell spectra");
     if (!r->ok) {
-        placeholder(cr, f.x, f.y, f.w, f.h, "spectrum not computed");
+        hx_draw_placeholder(cr, f.x, f.y, f.w, f.h, "spectrum not computed");
         return;
     }
     f.ax = r->k;
     f.ay = energy_axis(d, r);
     if (fit_range_ok(d)) fit_band(cr, &f, d);
-    x_axis(cr, &f);
-    y_axis(cr, &f);
+    hx_draw_x_axis(cr, &f);
+    hx_draw_y_axis(cr, &f);
     int big = r->last > 80; /* dots on hundreds of shells only blur the line */
     const series curves[3] = {{d->shell_e, NULL, r->floor, 0, 1, 1, r->last + 1},
                               {d->shell_comp, NULL, r->floor, 0, 1, 1, r->last + 1},
@@ -568,7 +154,7 @@ static void spectra_panel(cairo_t *cr, const hx_diag *d, const shells *r, double
     for (int i = 2; i >= 0; i--) { /* total last, on top */
         style st = sty[i];
         st.marker = big ? 0 : st.marker;
-        draw_series(cr, &f, &curves[i], &st);
+        hx_draw_draw_series(cr, &f, &curves[i], &st);
     }
     if (isfinite(slope)) guide_line(cr, &f, d, r, slope, &sty[3]);
     spectra_legend(cr, &f, d, slope, sty);
@@ -581,27 +167,27 @@ static void share_panel(cairo_t *cr, const hx_diag *d, const shells *r, double t
     char a[32];
     entry e[3];
     int n = 0;
-    panel_title(cr, &f, "Compressive share per shell");
+    hx_draw_panel_title(cr, &f, "Compressive share per shell");
     if (!r->ok) {
-        placeholder(cr, f.x, f.y, f.w, f.h, "not computed");
+        hx_draw_placeholder(cr, f.x, f.y, f.w, f.h, "not computed");
         return;
     }
     f.ax = r->k;
     f.ay = (axis){0, 1, 0, 0, 0.25, 2, "compressive share"};
-    x_axis(cr, &f);
-    y_axis(cr, &f);
-    hline(cr, &f, d->fraction, &glob);
-    hline(cr, &f, target, &req);
+    hx_draw_x_axis(cr, &f);
+    hx_draw_y_axis(cr, &f);
+    hx_draw_hline(cr, &f, d->fraction, &glob);
+    hx_draw_hline(cr, &f, target, &req);
     series s = {d->shell_comp, d->shell_e, r->floor, 0, 1, 1, r->last + 1};
-    draw_series(cr, &f, &s, &per);
+    hx_draw_draw_series(cr, &f, &s, &per);
     e[n++] = (entry){per, 0, "per shell"};
     if (isfinite(target)) {
         e[n] = (entry){req, 0, ""};
-        snprintf(e[n++].label, sizeof e[0].label, "requested %s", num(a, sizeof a, "%.3f", target));
+        snprintf(e[n++].label, sizeof e[0].label, "requested %s", hx_draw_num(a, sizeof a, "%.3f", target));
     }
     e[n] = (entry){glob, 0, ""};
-    snprintf(e[n++].label, sizeof e[0].label, "whole cube %s", num(a, sizeof a, "%.3f", d->fraction));
-    legend(cr, f.x + f.w + LEGEND_GAP, f.y, e, n, NULL, 0);
+    snprintf(e[n++].label, sizeof e[0].label, "whole cube %s", hx_draw_num(a, sizeof a, "%.3f", d->fraction));
+    hx_draw_legend(cr, f.x + f.w + LEGEND_GAP, f.y, e, n, NULL, 0);
 }
 
 /* ---- the state in a density ------------------------------------------------------------ */
@@ -613,25 +199,25 @@ static void state_box(cairo_t *cr, const hx_diag *d, double x, double bottom)
     char rows[5][96], a[32], b[32];
     if (!d->has_state) return;
     snprintf(rows[0], sizeof rows[0], "State in the density");
-    snprintf(rows[1], sizeof rows[1], "σ(3D) %s · Mach %s", num(a, sizeof a, "%#.4g", d->sigma_3d),
-             num(b, sizeof b, "%#.4g", d->mach));
-    snprintf(rows[2], sizeof rows[2], "α(vir) %s · R %s (%s)", num(a, sizeof a, "%#.4g", d->virial),
-             num(b, sizeof b, "%g", d->radius), d->cloud ? "cloud" : "box");
-    snprintf(rows[3], sizeof rows[3], "σ(s) %s · mean ln ρ %s", num(a, sizeof a, "%#.4g", d->sigma_s),
-             num(b, sizeof b, "%#.4g", d->ln_rho_mean));
-    snprintf(rows[4], sizeof rows[4], "|P| / (M v(rms)) %s", num(a, sizeof a, "%.2g", d->momentum_rel));
+    snprintf(rows[1], sizeof rows[1], "σ(3D) %s · Mach %s", hx_draw_num(a, sizeof a, "%#.4g", d->sigma_3d),
+             hx_draw_num(b, sizeof b, "%#.4g", d->mach));
+    snprintf(rows[2], sizeof rows[2], "α(vir) %s · R %s (%s)", hx_draw_num(a, sizeof a, "%#.4g", d->virial),
+             hx_draw_num(b, sizeof b, "%g", d->radius), d->cloud ? "cloud" : "box");
+    snprintf(rows[3], sizeof rows[3], "σ(s) %s · mean ln ρ %s", hx_draw_num(a, sizeof a, "%#.4g", d->sigma_s),
+             hx_draw_num(b, sizeof b, "%#.4g", d->ln_rho_mean));
+    snprintf(rows[4], sizeof rows[4], "|P| / (M v(rms)) %s", hx_draw_num(a, sizeof a, "%.2g", d->momentum_rel));
     double w = 0;
     for (int i = 0; i < 5; i++) {
-        font(cr, FS_SMALL, i == 0);
-        w = fmax(w, text_width(cr, rows[i]));
+        hx_draw_font(cr, FS_SMALL, i == 0);
+        w = fmax(w, hx_draw_text_width(cr, rows[i]));
     }
     w = fmax(w + 2 * LEG_PAD, LEGEND_W);
     double h = 5 * LEG_ROW + 2 * LEG_PAD - 4, y = bottom - h, cy = y + LEG_PAD + LEG_ROW / 2 - 2;
-    legend_box(cr, x, y, w, h);
-    set_rgb(cr, INK);
+    hx_draw_legend_box(cr, x, y, w, h);
+    hx_draw_set_rgb(cr, INK);
     for (int i = 0; i < 5; i++, cy += LEG_ROW) {
-        font(cr, FS_SMALL, i == 0);
-        text(cr, rows[i], x + LEG_PAD, cy, 0, 0.5);
+        hx_draw_font(cr, FS_SMALL, i == 0);
+        hx_draw_text(cr, rows[i], x + LEG_PAD, cy, 0, 0.5);
     }
 }
 
@@ -660,26 +246,26 @@ static void moment_table(cairo_t *cr, const frame *f, const hx_diag *d, const st
     char buf[32];
     double w = col[3] + 2 * LEG_PAD, h = 5 * LEG_ROW + 2 * LEG_PAD - 4;
     double x = f->x + (f->w - w) / 2, y = f->y + f->h - h - 14;
-    legend_box(cr, x, y, w, h);
-    font(cr, FS_SMALL, 0);
+    hx_draw_legend_box(cr, x, y, w, h);
+    hx_draw_font(cr, FS_SMALL, 0);
     double cy = y + LEG_PAD + LEG_ROW / 2 - 2, x0 = x + LEG_PAD;
-    set_rgb(cr, MUTED);
-    text(cr, "rms", x0 + col[1], cy, 1, 0.5);
-    text(cr, "skewness", x0 + col[2], cy, 1, 0.5);
-    text(cr, "ex. kurtosis", x0 + col[3], cy, 1, 0.5);
+    hx_draw_set_rgb(cr, MUTED);
+    hx_draw_text(cr, "rms", x0 + col[1], cy, 1, 0.5);
+    hx_draw_text(cr, "skewness", x0 + col[2], cy, 1, 0.5);
+    hx_draw_text(cr, "ex. kurtosis", x0 + col[3], cy, 1, 0.5);
     for (int c = 0; c < 3; c++) {
         cy += LEG_ROW;
-        sample(cr, &comp[c], x0, cy, 26);
-        set_rgb(cr, INK);
-        text(cr, name[c], x0 + 34, cy, 0, 0.5);
-        text(cr, num(buf, sizeof buf, "%.4g", d->rms[c]), x0 + col[1], cy, 1, 0.5);
-        text(cr, num(buf, sizeof buf, "%.3f", d->skew[c]), x0 + col[2], cy, 1, 0.5);
-        text(cr, num(buf, sizeof buf, "%.3f", d->kurt[c]), x0 + col[3], cy, 1, 0.5);
+        hx_draw_sample(cr, &comp[c], x0, cy, 26);
+        hx_draw_set_rgb(cr, INK);
+        hx_draw_text(cr, name[c], x0 + 34, cy, 0, 0.5);
+        hx_draw_text(cr, hx_draw_num(buf, sizeof buf, "%.4g", d->rms[c]), x0 + col[1], cy, 1, 0.5);
+        hx_draw_text(cr, hx_draw_num(buf, sizeof buf, "%.3f", d->skew[c]), x0 + col[2], cy, 1, 0.5);
+        hx_draw_text(cr, hx_draw_num(buf, sizeof buf, "%.3f", d->kurt[c]), x0 + col[3], cy, 1, 0.5);
     }
     cy += LEG_ROW;
-    sample(cr, normal, x0, cy, 26);
-    set_rgb(cr, INK);
-    text(cr, "standard normal", x0 + 34, cy, 0, 0.5);
+    hx_draw_sample(cr, normal, x0, cy, 26);
+    hx_draw_set_rgb(cr, INK);
+    hx_draw_text(cr, "standard normal", x0 + 34, cy, 0, 0.5);
 }
 
 static void pdf_panel(cairo_t *cr, const hx_diag *d, frame f)
@@ -688,21 +274,21 @@ static void pdf_panel(cairo_t *cr, const hx_diag *d, frame f)
     const style normal = {NORMAL, 5.0, {0, 0}, 0};
     style comp[3];
     double gauss[PDF_CURVE];
-    panel_title(cr, &f, "One-point PDFs per component");
+    hx_draw_panel_title(cr, &f, "One-point PDFs per component");
     f.ax = (axis){-range, range, 0, 0, 1, 2, "standardized component (v − ⟨v⟩) / σ"};
     f.ay = density_axis(d);
-    x_axis(cr, &f);
-    y_axis(cr, &f);
+    hx_draw_x_axis(cr, &f);
+    hx_draw_y_axis(cr, &f);
     for (int i = 0; i < PDF_CURVE; i++) {
         double x = -range + 2 * range * i / (PDF_CURVE - 1);
         gauss[i] = exp(-0.5 * x * x) / sqrt(2 * M_PI);
     }
     series g = {gauss, NULL, 0, -range, 2 * range / (PDF_CURVE - 1), 0, PDF_CURVE};
-    draw_series(cr, &f, &g, &normal);
+    hx_draw_draw_series(cr, &f, &g, &normal);
     for (int c = 0; c < 3; c++) {
         comp[c] = (style){COMPONENT[c], 2.0, {0, 0}, 0};
         series s = {d->pdf[c], NULL, 0, -range + dx / 2, dx, 0, HX_DIAG_BINS};
-        draw_series(cr, &f, &s, &comp[c]);
+        hx_draw_draw_series(cr, &f, &s, &comp[c]);
     }
     moment_table(cr, &f, d, comp, &normal);
 }
@@ -849,13 +435,13 @@ static void paint_image(cairo_t *cr, cairo_surface_t *img, double x, double y, d
 static void bar_tick(cairo_t *cr, double x, double y, double v, double *wmax)
 {
     char buf[32];
-    set_rgb(cr, AXIS);
+    hx_draw_set_rgb(cr, AXIS);
     cairo_set_line_width(cr, 1);
-    line(cr, x, y, x + 5, y);
-    set_rgb(cr, INK);
-    num(buf, sizeof buf, "%.3g", fabs(v) < 1e-300 ? 0.0 : v);
-    text(cr, buf, x + 9, y, 0, 0.5);
-    *wmax = fmax(*wmax, text_width(cr, buf));
+    hx_draw_line(cr, x, y, x + 5, y);
+    hx_draw_set_rgb(cr, INK);
+    hx_draw_num(buf, sizeof buf, "%.3g", fabs(v) < 1e-300 ? 0.0 : v);
+    hx_draw_text(cr, buf, x + 9, y, 0, 0.5);
+    *wmax = fmax(*wmax, hx_draw_text_width(cr, buf));
 }
 
 /* Vertical colour bar with min and max (and 0 on a symmetric map) and the unit. */
@@ -874,16 +460,16 @@ static void colour_bar(cairo_t *cr, const uint32_t *lut, double x, double y, dou
     cairo_fill(cr);
     cairo_pattern_destroy(g);
     double wmax = 0;
-    font(cr, FS_SMALL, 0);
+    hx_draw_font(cr, FS_SMALL, 0);
     bar_tick(cr, x + w, y, hi, &wmax);
     bar_tick(cr, x + w, y + h, lo, &wmax);
     if (sp->symmetric) bar_tick(cr, x + w, y + h / 2, 0, &wmax);
-    font(cr, FS_SMALL, 0);
-    set_rgb(cr, MUTED);
+    hx_draw_font(cr, FS_SMALL, 0);
+    hx_draw_set_rgb(cr, MUTED);
     cairo_save(cr);
     cairo_translate(cr, x + w + 9 + wmax + 22, y + h / 2);
     cairo_rotate(cr, -M_PI / 2);
-    text(cr, sp->unit, 0, 0, 0.5, 0);
+    hx_draw_text(cr, sp->unit, 0, 0, 0.5, 0);
     cairo_restore(cr);
 }
 
@@ -900,11 +486,11 @@ static void slice_box(const hx_diag *d, double *w, double *h)
 static hx_status draw_slice(cairo_t *cr, const hx_diag *d, const slice_spec *sp, double x, double y, double dev)
 {
     int64_t nx = d->slice_n[0], ny = d->slice_n[1];
-    font(cr, FS_AXIS, 1);
-    set_rgb(cr, INK);
-    text(cr, sp->title, x, y - 14, 0, 0);
+    hx_draw_font(cr, FS_AXIS, 1);
+    hx_draw_set_rgb(cr, INK);
+    hx_draw_text(cr, sp->title, x, y - 14, 0, 0);
     if (!sp->v || nx < 1 || ny < 1 || nx > 32767 || ny > 32767) {
-        placeholder(cr, x, y, SLICE_H, SLICE_H, sp->v ? "slice size not drawable" : "not computed");
+        hx_draw_placeholder(cr, x, y, SLICE_H, SLICE_H, sp->v ? "slice size not drawable" : "not computed");
         return HX_OK;
     }
     cairo_surface_t *img = cairo_image_surface_create(CAIRO_FORMAT_RGB24, (int)nx, (int)ny);
@@ -924,10 +510,10 @@ static hx_status draw_slice(cairo_t *cr, const hx_diag *d, const slice_spec *sp,
     paint_image(cr, img, x, y, w, h, dev);
     cairo_surface_destroy(img);
     colour_bar(cr, lut, x + w + 16, y, 16, h, lo, hi, sp);
-    font(cr, FS_SMALL, 0);
-    set_rgb(cr, MUTED);
-    text(cr, "x →", x + w / 2, y + h + 8, 0.5, 1);
-    text_up(cr, "y →", x - 8, y + h / 2);
+    hx_draw_font(cr, FS_SMALL, 0);
+    hx_draw_set_rgb(cr, MUTED);
+    hx_draw_text(cr, "x →", x + w / 2, y + h + 8, 0.5, 1);
+    hx_draw_text_up(cr, "y →", x - 8, y + h / 2);
     return HX_OK;
 }
 
@@ -939,17 +525,17 @@ static hx_status slices_row(cairo_t *cr, const hx_diag *d, double top, double de
         {d->slice_vort, "vorticity |∇×v|", "|∇×v| [1/code time]", MAP_VORT, 4, 0},
     };
     char sub[96];
-    font(cr, FS_PANEL, 1);
-    set_rgb(cr, INK);
-    text(cr, "Mid-plane slices", MARGIN, top, 0, 0);
-    double wt = text_width(cr, "Mid-plane slices");
-    font(cr, FS_SUB, 0);
-    set_rgb(cr, MUTED);
+    hx_draw_font(cr, FS_PANEL, 1);
+    hx_draw_set_rgb(cr, INK);
+    hx_draw_text(cr, "Mid-plane slices", MARGIN, top, 0, 0);
+    double wt = hx_draw_text_width(cr, "Mid-plane slices");
+    hx_draw_font(cr, FS_SUB, 0);
+    hx_draw_set_rgb(cr, MUTED);
     int n = snprintf(sub, sizeof sub, "plane z index Nz/2 = %lld (of %lld)", (long long)(d->cells[2] / 2),
                      (long long)d->cells[2]);
     if (d->slice_n[0] > 0 && d->slice_n[1] > 0 && n > 0 && (size_t)n < sizeof sub)
         snprintf(sub + n, sizeof sub - (size_t)n, ", %lld × %lld cells", (long long)d->slice_n[0], (long long)d->slice_n[1]);
-    text(cr, sub, MARGIN + wt + 16, top, 0, 0);
+    hx_draw_text(cr, sub, MARGIN + wt + 16, top, 0, 0);
     for (int i = 0; i < 3; i++) {
         hx_status st = draw_slice(cr, d, &sp[i], MARGIN + 40 + i * (double)SLICE_STEP, top + 50, dev);
         if (st != HX_OK) return st;
@@ -966,39 +552,39 @@ static int header_cards(const hx_diag *d, double slope, double fraction, card *c
     char a[32], b[32], e[32];
     int n = 0;
     c[n] = (card){"rms speed", "", "code velocity"};
-    num(c[n++].value, sizeof c[0].value, "%#.4g", d->rms3);
+    hx_draw_num(c[n++].value, sizeof c[0].value, "%#.4g", d->rms3);
     c[n] = (card){"mean velocity", "", "code velocity"};
-    snprintf(c[n++].value, sizeof c[0].value, "(%s, %s, %s)", num(a, sizeof a, "%.2g", d->mean[0]),
-             num(b, sizeof b, "%.2g", d->mean[1]), num(e, sizeof e, "%.2g", d->mean[2]));
+    snprintf(c[n++].value, sizeof c[0].value, "(%s, %s, %s)", hx_draw_num(a, sizeof a, "%.2g", d->mean[0]),
+             hx_draw_num(b, sizeof b, "%.2g", d->mean[1]), hx_draw_num(e, sizeof e, "%.2g", d->mean[2]));
     c[n] = (card){"compressive share", "", ""};
-    num(c[n].value, sizeof c[0].value, "%.4f", d->fraction);
-    if (isfinite(fraction)) snprintf(c[n].unit, sizeof c[0].unit, "requested %s", num(a, sizeof a, "%.3f", fraction));
+    hx_draw_num(c[n].value, sizeof c[0].value, "%.4f", d->fraction);
+    if (isfinite(fraction)) snprintf(c[n].unit, sizeof c[0].unit, "requested %s", hx_draw_num(a, sizeof a, "%.3f", fraction));
     n++;
     c[n] = (card){"spectral slope", "", ""};
     if (isfinite(d->slope))
-        snprintf(c[n].value, sizeof c[0].value, "%s ± %s", num(a, sizeof a, "%.2f", d->slope),
-                 num(b, sizeof b, "%.2f", d->slope_err));
+        snprintf(c[n].value, sizeof c[0].value, "%s ± %s", hx_draw_num(a, sizeof a, "%.2f", d->slope),
+                 hx_draw_num(b, sizeof b, "%.2f", d->slope_err));
     else snprintf(c[n].value, sizeof c[0].value, "n/a");
-    if (isfinite(slope)) snprintf(c[n].unit, sizeof c[0].unit, "requested %s", num(a, sizeof a, "%.2f", slope));
+    if (isfinite(slope)) snprintf(c[n].unit, sizeof c[0].unit, "requested %s", hx_draw_num(a, sizeof a, "%.2f", slope));
     n++;
     c[n] = (card){"divergence ratio", "", ""};
-    num(c[n++].value, sizeof c[0].value, "%.4f", d->div_ratio);
+    hx_draw_num(c[n++].value, sizeof c[0].value, "%.4f", d->div_ratio);
     c[n] = (card){"vorticity ratio", "", ""};
-    num(c[n++].value, sizeof c[0].value, "%.4f", d->vort_ratio);
+    hx_draw_num(c[n++].value, sizeof c[0].value, "%.4f", d->vort_ratio);
     c[n++] = d->mass_weighted ? (card){"weighting", "mass", "field √ρ v"} : (card){"weighting", "volume", "field v"};
     if (d->remove_scale > 0) { /* the Gaussian-smoothed flow on this scale was subtracted */
         c[n] = (card){"smoothed flow removed", "", "code length"};
-        num(c[n++].value, sizeof c[0].value, "%.3g", d->remove_scale);
+        hx_draw_num(c[n++].value, sizeof c[0].value, "%.3g", d->remove_scale);
     }
     return n;
 }
 
 static double card_width(cairo_t *cr, const card *c)
 {
-    font(cr, 13, 0);
-    double wl = text_width(cr, c->label), wu = c->unit[0] ? 6 + text_width(cr, c->unit) : 0;
-    font(cr, 22, 0);
-    return fmax(wl, text_width(cr, c->value) + wu);
+    hx_draw_font(cr, 13, 0);
+    double wl = hx_draw_text_width(cr, c->label), wu = c->unit[0] ? 6 + hx_draw_text_width(cr, c->unit) : 0;
+    hx_draw_font(cr, 22, 0);
+    return fmax(wl, hx_draw_text_width(cr, c->value) + wu);
 }
 
 /* The key numbers as a strip of label-over-value cards between two thin rules. */
@@ -1009,22 +595,22 @@ static void header_strip(cairo_t *cr, const hx_diag *d, double slope, double fra
     int n = header_cards(d, slope, fraction, c);
     for (int i = 0; i < n; i++) sum += w[i] = card_width(cr, &c[i]);
     double gap = fmin(fmax((PAGE_W - 2 * MARGIN - sum) / (n - 1), 20), 90);
-    set_rgb(cr, RULE);
+    hx_draw_set_rgb(cr, RULE);
     cairo_set_line_width(cr, 1);
-    line(cr, MARGIN, top, PAGE_W - MARGIN, top);
-    line(cr, MARGIN, top + 74, PAGE_W - MARGIN, top + 74);
+    hx_draw_line(cr, MARGIN, top, PAGE_W - MARGIN, top);
+    hx_draw_line(cr, MARGIN, top + 74, PAGE_W - MARGIN, top + 74);
     double x = MARGIN;
     for (int i = 0; i < n; x += w[i] + gap, i++) {
-        font(cr, 13, 0);
-        set_rgb(cr, MUTED);
-        text(cr, c[i].label, x, top + 26, 0, 0);
-        font(cr, 22, 0);
-        set_rgb(cr, INK);
-        text(cr, c[i].value, x, top + 56, 0, 0);
-        double wv = text_width(cr, c[i].value);
-        font(cr, 13, 0);
-        set_rgb(cr, MUTED);
-        text(cr, c[i].unit, x + wv + 6, top + 56, 0, 0);
+        hx_draw_font(cr, 13, 0);
+        hx_draw_set_rgb(cr, MUTED);
+        hx_draw_text(cr, c[i].label, x, top + 26, 0, 0);
+        hx_draw_font(cr, 22, 0);
+        hx_draw_set_rgb(cr, INK);
+        hx_draw_text(cr, c[i].value, x, top + 56, 0, 0);
+        double wv = hx_draw_text_width(cr, c[i].value);
+        hx_draw_font(cr, 13, 0);
+        hx_draw_set_rgb(cr, MUTED);
+        hx_draw_text(cr, c[i].unit, x + wv + 6, top + 56, 0, 0);
     }
 }
 
@@ -1032,9 +618,9 @@ static void header_strip(cairo_t *cr, const hx_diag *d, double slope, double fra
 static void title_line(cairo_t *cr, const char *title, double y, double room)
 {
     double size = FS_TITLE;
-    font(cr, size, 1);
-    while (size > 16 && plain_width(cr, title) > room) font(cr, --size, 1);
-    set_rgb(cr, INK);
+    hx_draw_font(cr, size, 1);
+    while (size > 16 && hx_draw_plain_width(cr, title) > room) hx_draw_font(cr, --size, 1);
+    hx_draw_set_rgb(cr, INK);
     cairo_move_to(cr, MARGIN, y);
     cairo_show_text(cr, title);
 }
@@ -1043,13 +629,13 @@ static void header(cairo_t *cr, const hx_diag *d, const hx_plot_request *req, co
 {
     char sub[256];
     title_line(cr, title, 58, PAGE_W - 2 * MARGIN - 260);
-    font(cr, FS_SUB, 0);
-    set_rgb(cr, MUTED);
-    text(cr, "helmix " HX_VERSION " · cube report", PAGE_W - MARGIN, 58, 1, 0);
+    hx_draw_font(cr, FS_SUB, 0);
+    hx_draw_set_rgb(cr, MUTED);
+    hx_draw_text(cr, "helmix " HX_VERSION " · cube report", PAGE_W - MARGIN, 58, 1, 0);
     snprintf(sub, sizeof sub, "%lld × %lld × %lld cells   ·   box %g × %g × %g   ·   %d shells   ·   analysed on %d rank%s",
              (long long)d->cells[0], (long long)d->cells[1], (long long)d->cells[2], d->box[0], d->box[1], d->box[2],
              d->nshell, d->ranks, d->ranks == 1 ? "" : "s");
-    text(cr, sub, MARGIN, 90, 0, 0);
+    hx_draw_text(cr, sub, MARGIN, 90, 0, 0);
     header_strip(cr, d, req ? req->slope : NAN, req ? req->fraction : NAN, 110);
 }
 
@@ -1123,7 +709,7 @@ hx_status hx_plot_report(const hx_diag *d, const hx_plot_request *req, const cha
     int pdf = ends_with(path, ".pdf");
     if (!pdf && !ends_with(path, ".png"))
         return hx_error_set(HX_ERR_ARG, "plot '%s': unknown format; the file name must end in .png or .pdf", path);
-    clean_line(title, sizeof title, req && req->title ? req->title : "velocity cube");
+    hx_draw_clean_line(title, sizeof title, req && req->title ? req->title : "velocity cube");
     cairo_surface_t *surf = make_surface(pdf, path, title);
     hx_status st = check_cairo(cairo_surface_status(surf), pdf ? "creating the PDF" : "creating the image", path);
     int created = st == HX_OK;
