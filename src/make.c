@@ -42,7 +42,7 @@ static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *
     HX_TRY(hx_io_attr_doubles(io, G, "box", g->box, 3));
     HX_TRY(hx_io_attr_string(io, G, "mix_mode", r->mix.mode == HX_MIX_ZETA ? "zeta" : "compressive_fraction"));
     HX_TRY(hx_io_attr_doubles(io, G, "zeta", r->mix.mode == HX_MIX_ZETA ? &r->mix.zeta : &nan, 0));
-    HX_TRY(hx_io_attr_string(io, G, "exact", hx_exact_name(r->mix.exact)));
+    HX_TRY(hx_io_attr_string(io, G, HX_ATTR_EXACT, hx_exact_name(r->mix.exact)));
     v = r->mix.mode == HX_MIX_FRACTION ? r->mix.compressive_fraction : hx_mix_expected_fraction(r->mix.zeta);
     HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_FRACTION_EXPECTED, &v, 0));
     HX_TRY(hx_io_attr_doubles(io, G, HX_ATTR_FRACTION_TARGET, r->mix.exact == HX_EXACT_NONE || res->as_written ? &nan : &v, 0));
@@ -61,7 +61,7 @@ static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *
     HX_TRY(hx_io_attr_int64s(io, G, "flip", &flip, 0));
     HX_TRY(hx_io_attr_string(io, G, "precision", r->precision == HX_PREC_DOUBLE ? "double" : "single"));
     HX_TRY(hx_io_attr_string(io, G, HX_ATTR_WEIGHT, r->weight == HX_WEIGHT_MASS ? "mass" : "volume"));
-    HX_TRY(hx_io_attr_string(io, G, "fraction_of", res->as_written ? "written" : "synthesis"));
+    HX_TRY(hx_io_attr_string(io, G, HX_ATTR_FRACTION_OF, res->as_written ? "written" : "synthesis"));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_plan", &res->t_plan, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_draw", &res->t_draw, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_fft", &res->t_fft, 0));
