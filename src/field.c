@@ -13,6 +13,7 @@
 #include "check.h"
 #include "helmix/mix.h"
 #include "helmix/rng.h"
+#include "helmix/sum.h"
 
 /* One local mode: everything the passes need. */
 typedef struct mode_s {
@@ -39,7 +40,9 @@ struct hx_field {
     const hx_spectrum *sp;
     int nshell;
     double *sol, *comp, *modes, *a, *b; /* per shell */
-    double *loc;            /* per shell: local sums (NSUM of them, see accumulate)        */
+    hx_sum *loc;            /* per shell: local sums (NSUM of them, see accumulate), double-double
+                             * so that the reduced sums do not depend on the rank count   */
+    double *tot;            /* the same sums reduced over the ranks                        */
     int deferred;           /* sums still to be taken during component 0 (exact = none)    */
     double alpha, beta;     /* exact = none: provisional weights of the deferred pass      */
     int ready;              /* summary valid                                              */
@@ -208,26 +211,28 @@ static void free_shells(hx_field *f)
     free(f->a);
     free(f->b);
     free(f->loc);
-    f->sol = f->comp = f->modes = f->a = f->b = f->loc = NULL;
+    free(f->tot);
+    f->sol = f->comp = f->modes = f->a = f->b = f->tot = NULL;
+    f->loc = NULL;
 }
 
 /* Add one mode's unscaled solenoidal and compressive energy and its count to shell sums. */
-static inline void accumulate(double *loc, int ns, const mode_t_ *m, const double complex w[3], double complex kw)
+static inline void accumulate(hx_sum *loc, int ns, const mode_t_ *m, const double complex w[3], double complex kw)
 {
     double p = m->amp * m->amp * m->weight, wpar2 = creal(kw * conj(kw)), w2 = 0;
     for (int c = 0; c < 3; c++) w2 += creal(w[c] * conj(w[c]));
-    loc[m->shell] += p * (w2 - wpar2);
-    loc[ns + m->shell] += p * wpar2;
-    loc[3 * ns + m->shell] += p * m->k * m->k * (w2 - wpar2); /* for the rms vorticity */
-    loc[4 * ns + m->shell] += p * m->k * m->k * wpar2;        /* for the rms divergence */
-    loc[5 * ns + m->shell] += p;                              /* expected shell energy, up to a constant */
-    loc[6 * ns + m->shell] += p * p;                          /* and its scatter */
+    hx_sum_add(&loc[m->shell], p * (w2 - wpar2));
+    hx_sum_add(&loc[ns + m->shell], p * wpar2);
+    hx_sum_add(&loc[3 * ns + m->shell], p * m->k * m->k * (w2 - wpar2)); /* for the rms vorticity */
+    hx_sum_add(&loc[4 * ns + m->shell], p * m->k * m->k * wpar2);        /* for the rms divergence */
+    hx_sum_add(&loc[5 * ns + m->shell], p);                              /* expected shell energy, up to a constant */
+    hx_sum_add(&loc[6 * ns + m->shell], p * p);                          /* and its scatter */
 }
 
 /* Count the Fourier modes of every shell below ns, whether or not they carry power, with the
  * conventions of inspect (Nyquist at -N/2, weight 1 on the kx = 0 and kx = Nx/2 planes), so a
  * mode-count-compensated spectrum means the same in both. */
-static void count_modes(const hx_field *f, double *modes, int ns)
+static void count_modes(const hx_field *f, hx_sum *modes, int ns)
 {
     const hx_grid *g = &f->g;
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
@@ -237,7 +242,7 @@ static void count_modes(const hx_field *f, double *modes, int ns)
             for (ptrdiff_t x = 0; x < g->nxc; x++) {
                 double kx = (double)hx_grid_freq(x, g->n[0]) * hx_grid_kunit(g, 0), k2 = b2 + kx * kx;
                 int s = (int)(sqrt(k2) + 0.5);
-                if (k2 > 0 && s < ns) modes[s] += (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
+                if (k2 > 0 && s < ns) hx_sum_add(&modes[s], (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0);
             }
         }
 }
@@ -257,10 +262,11 @@ static hx_status finish_mix(hx_field *f)
     hx_status st = HX_OK;
     int ns = f->nshell;
     count_modes(f, f->loc + 2 * ns, ns);
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, f->loc, NSUM * ns, MPI_DOUBLE, MPI_SUM, f->comm));
-    memcpy(f->sol, f->loc, (size_t)ns * sizeof *f->sol);
-    memcpy(f->comp, f->loc + ns, (size_t)ns * sizeof *f->comp);
-    memcpy(f->modes, f->loc + 2 * ns, (size_t)ns * sizeof *f->modes);
+    HX_TRY(hx_sum_allreduce(f->loc, NSUM * ns, f->comm));
+    for (int i = 0; i < NSUM * ns; i++) f->tot[i] = hx_sum_value(&f->loc[i]);
+    memcpy(f->sol, f->tot, (size_t)ns * sizeof *f->sol);
+    memcpy(f->comp, f->tot + ns, (size_t)ns * sizeof *f->comp);
+    memcpy(f->modes, f->tot + 2 * ns, (size_t)ns * sizeof *f->modes);
     HX_TRY(hx_mix_solve(mix_of(f->d), f->d->rms, f->sol, f->comp, ns, f->a, f->b));
     /* From here on sol and comp hold the kinetic energy (|u|^2 / 2) of the final field. */
     double es = 0, ec = 0, ks = 0, kc = 0;
@@ -269,12 +275,12 @@ static hx_status finish_mix(hx_field *f)
         f->comp[s] *= 0.5 * f->b[s] * f->b[s];
         es += f->sol[s];
         ec += f->comp[s];
-        ks += f->a[s] * f->a[s] * f->loc[3 * ns + s];
-        kc += f->b[s] * f->b[s] * f->loc[4 * ns + s];
+        ks += f->a[s] * f->a[s] * f->tot[3 * ns + s];
+        kc += f->b[s] * f->b[s] * f->tot[4 * ns + s];
     }
     const double kphys = 2.0 * M_PI / f->g.lmax; /* |k| above is in units of 2 pi / lmax */
     f->sum = (hx_field_summary){ns, f->sol, f->comp, f->modes, es + ec > 0 ? ec / (es + ec) : 0.0, sqrt(2.0 * (es + ec)),
-                                kphys * sqrt(kc), kphys * sqrt(ks + kc), f->loc + 5 * ns, f->loc + 6 * ns};
+                                kphys * sqrt(kc), kphys * sqrt(ks + kc), f->tot + 5 * ns, f->tot + 6 * ns};
     f->ready = 1;
 fail:
     return st;
@@ -297,6 +303,7 @@ hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
     HX_ALLOC(f->a, ns);
     HX_ALLOC(f->b, ns);
     HX_ALLOC(f->loc, NSUM * (size_t)ns);
+    HX_ALLOC(f->tot, NSUM * (size_t)ns);
     /* exact = none needs no look-ahead: the factors are fixed weights up to one global
      * scale, so the sums ride along with the first component and the scale is applied to it
      * after the transform (linearity), saving a whole pass of draws. */

@@ -23,12 +23,15 @@ static inline double dist(const double p[3], const double c[3])
     return sqrt(dx * dx + dy * dy + dz * dz);
 }
 
-static void add_density(hx_flow_w *w, double wt, const double d[3])
+/* Offsets of the sums of one weight in hx_flow.acc. */
+enum { W0 = 0, W1 = 1, W2 = 4, V1 = 13, V2 = 16, VX = 19 };
+
+static void add_density(hx_sum *acc, double wt, const double d[3])
 {
-    w->w0 += wt;
+    hx_sum_add(&acc[W0], wt);
     for (int a = 0; a < 3; a++) {
-        w->w1[a] += wt * d[a];
-        for (int b = 0; b < 3; b++) w->w2[a][b] += wt * d[a] * d[b];
+        hx_sum_add(&acc[W1 + a], wt * d[a]);
+        for (int b = 0; b < 3; b++) hx_sum_add(&acc[W2 + 3 * a + b], wt * d[a] * d[b]);
     }
 }
 
@@ -38,6 +41,36 @@ static inline double mass_weight(const hx_flow *fl, const hx_cloud *cl, double r
     return fl->windowed ? rho * hx_cloud_window(cl, dist(p, cl->center)) : rho;
 }
 
+/* Reduce the sums [from, to) of the three weights and copy them into the plain structs. */
+static hx_status reduce(hx_flow *fl, int from, int to, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    hx_sum buf[3 * HX_FLOW_SUMS];
+    int n = to - from;
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < n; j++) buf[i * n + j] = fl->acc[i][from + j];
+    HX_TRY(hx_sum_allreduce(buf, 3 * n, comm));
+    hx_flow_w *ws[3] = {&fl->mass, &fl->region, &fl->volume};
+    for (int i = 0; i < 3; i++) {
+        double v[HX_FLOW_SUMS];
+        for (int j = 0; j < HX_FLOW_SUMS; j++) v[j] = hx_sum_value(&fl->acc[i][j]);
+        for (int j = 0; j < n; j++) v[from + j] = hx_sum_value(&buf[i * n + j]);
+        hx_flow_w *w = ws[i];
+        if (from <= W0) {
+            w->w0 = v[W0];
+            memcpy(w->w1, v + W1, sizeof w->w1);
+            memcpy(w->w2, v + W2, sizeof w->w2);
+        }
+        if (to > V1) {
+            memcpy(w->v1, v + V1, sizeof w->v1);
+            memcpy(w->v2, v + V2, sizeof w->v2);
+            memcpy(w->vx, v + VX, sizeof w->vx);
+        }
+    }
+fail:
+    return st;
+}
+
 hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const hx_cloud *cl, int windowed,
                         MPI_Comm comm)
 {
@@ -45,52 +78,40 @@ hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const 
     memset(fl, 0, sizeof *fl);
     fl->windowed = windowed;
     fl->cell_volume = g->box[0] * g->box[1] * g->box[2] / (double)hx_grid_cells(g);
-    double s[4] = {0, 0, 0, 0};
+    hx_sum s[4] = {{0, 0}, {0, 0}, {0, 0}, {0, 0}};
     for (ptrdiff_t z = 0; z < g->nz; z++)
         for (ptrdiff_t y = 0; y < g->n[1]; y++)
             for (ptrdiff_t x = 0; x < g->n[0]; x++) {
                 double p[3], r = rho ? rho[(z * g->n[1] + y) * g->n[0] + x] : 1.0;
                 centre(g, z, y, x, p);
                 r = mass_weight(fl, cl, r, p);
-                for (int a = 0; a < 3; a++) s[a] += r * p[a];
-                s[3] += r;
+                for (int a = 0; a < 3; a++) hx_sum_add(&s[a], r * p[a]);
+                hx_sum_add(&s[3], r);
             }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 4, MPI_DOUBLE, MPI_SUM, comm));
-    if (!(s[3] > 0)) HX_FAIL(HX_ERR_ARG, "the density has no mass: nothing to weight the velocity with");
-    for (int a = 0; a < 3; a++) fl->origin[a] = s[a] / s[3];
+    HX_TRY(hx_sum_allreduce(s, 4, comm));
+    double mass = hx_sum_value(&s[3]);
+    if (!(mass > 0)) HX_FAIL(HX_ERR_ARG, "the density has no mass: nothing to weight the velocity with");
+    for (int a = 0; a < 3; a++) fl->origin[a] = hx_sum_value(&s[a]) / mass;
     for (ptrdiff_t z = 0; z < g->nz; z++)
         for (ptrdiff_t y = 0; y < g->n[1]; y++)
             for (ptrdiff_t x = 0; x < g->n[0]; x++) {
                 double p[3], d[3], r = rho ? rho[(z * g->n[1] + y) * g->n[0] + x] : 1.0;
                 centre(g, z, y, x, p);
                 for (int a = 0; a < 3; a++) d[a] = p[a] - fl->origin[a];
-                add_density(&fl->mass, mass_weight(fl, cl, r, p), d);
-                add_density(&fl->volume, 1.0, d);
-                if (hx_cloud_inside(cl, dist(p, cl->center))) add_density(&fl->region, r, d);
+                add_density(fl->acc[0], mass_weight(fl, cl, r, p), d);
+                if (hx_cloud_inside(cl, dist(p, cl->center))) add_density(fl->acc[1], r, d);
+                add_density(fl->acc[2], 1.0, d);
             }
-    enum { NW = 1 + 3 + 9 };
-    double buf[3 * NW];
-    hx_flow_w *ws[3] = {&fl->mass, &fl->region, &fl->volume};
-    for (int i = 0; i < 3; i++) {
-        buf[i * NW] = ws[i]->w0;
-        memcpy(buf + i * NW + 1, ws[i]->w1, sizeof ws[i]->w1);
-        memcpy(buf + i * NW + 4, ws[i]->w2, sizeof ws[i]->w2);
-    }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, buf, 3 * NW, MPI_DOUBLE, MPI_SUM, comm));
-    for (int i = 0; i < 3; i++) {
-        ws[i]->w0 = buf[i * NW];
-        memcpy(ws[i]->w1, buf + i * NW + 1, sizeof ws[i]->w1);
-        memcpy(ws[i]->w2, buf + i * NW + 4, sizeof ws[i]->w2);
-    }
+    HX_TRY(reduce(fl, W0, V1, comm));
 fail:
     return st;
 }
 
-static inline void add_velocity(hx_flow_w *w, int c, double wt, double v, const double d[3])
+static inline void add_velocity(hx_sum *acc, int c, double wt, double v, const double d[3])
 {
-    w->v1[c] += wt * v;
-    w->v2[c] += wt * v * v;
-    for (int a = 0; a < 3; a++) w->vx[c][a] += wt * v * d[a];
+    hx_sum_add(&acc[V1 + c], wt * v);
+    hx_sum_add(&acc[V2 + c], wt * v * v);
+    for (int a = 0; a < 3; a++) hx_sum_add(&acc[VX + 3 * c + a], wt * v * d[a]);
 }
 
 void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const double *v, const double *rho, const hx_cloud *cl)
@@ -102,32 +123,13 @@ void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const double *v, const do
                 double p[3], d[3], r = rho ? rho[i] : 1.0;
                 centre(g, z, y, x, p);
                 for (int a = 0; a < 3; a++) d[a] = p[a] - fl->origin[a];
-                add_velocity(&fl->mass, c, mass_weight(fl, cl, r, p), v[i], d);
-                add_velocity(&fl->volume, c, 1.0, v[i], d);
-                if (hx_cloud_inside(cl, dist(p, cl->center))) add_velocity(&fl->region, c, r, v[i], d);
+                add_velocity(fl->acc[0], c, mass_weight(fl, cl, r, p), v[i], d);
+                if (hx_cloud_inside(cl, dist(p, cl->center))) add_velocity(fl->acc[1], c, r, v[i], d);
+                add_velocity(fl->acc[2], c, 1.0, v[i], d);
             }
 }
 
-hx_status hx_flow_reduce(hx_flow *fl, MPI_Comm comm)
-{
-    hx_status st = HX_OK;
-    enum { NV = 3 + 3 + 9 };
-    double buf[3 * NV];
-    hx_flow_w *ws[3] = {&fl->mass, &fl->region, &fl->volume};
-    for (int i = 0; i < 3; i++) {
-        memcpy(buf + i * NV, ws[i]->v1, sizeof ws[i]->v1);
-        memcpy(buf + i * NV + 3, ws[i]->v2, sizeof ws[i]->v2);
-        memcpy(buf + i * NV + 6, ws[i]->vx, sizeof ws[i]->vx);
-    }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, buf, 3 * NV, MPI_DOUBLE, MPI_SUM, comm));
-    for (int i = 0; i < 3; i++) {
-        memcpy(ws[i]->v1, buf + i * NV, sizeof ws[i]->v1);
-        memcpy(ws[i]->v2, buf + i * NV + 3, sizeof ws[i]->v2);
-        memcpy(ws[i]->vx, buf + i * NV + 6, sizeof ws[i]->vx);
-    }
-fail:
-    return st;
-}
+hx_status hx_flow_reduce(hx_flow *fl, MPI_Comm comm) { return reduce(fl, V1, HX_FLOW_SUMS, comm); }
 
 /* L_a = sum rho (Delta x v)_a = eps_abc sum rho Delta_b v_c. */
 static void angular(const hx_flow_w *w, double L[3])

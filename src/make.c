@@ -21,6 +21,7 @@
 #include "helmix/mix.h"
 #include "helmix/schema.h"
 #include "helmix/spectrum.h"
+#include "helmix/sum.h"
 #include "helmix/units.h"
 #include "helmix/version.h"
 
@@ -300,8 +301,9 @@ static hx_status make_density(run_t *R)
         HX_TRY(hx_field_component(R->f, 0, HX_PREC_DOUBLE, &slab, NULL));
         memcpy(R->rho, slab, (size_t)n * sizeof *R->rho);
     }
-    /* sums[0] = sum of the modulated part, sums[1] = sum of the part it replaces */
-    double sums[2] = {0, 0};
+    /* sums[0] = sum of the modulated part, sums[1] = sum of the part it replaces; double-double
+     * so that the normalisation, and so the density, is the same on any number of ranks */
+    hx_sum sums[2] = {{0, 0}, {0, 0}};
     for (ptrdiff_t z = 0; z < g->nz; z++)
         for (ptrdiff_t y = 0; y < g->n[1]; y++)
             for (ptrdiff_t x = 0; x < g->n[0]; x++) {
@@ -309,21 +311,22 @@ static hx_status make_density(run_t *R)
                 double e = lognormal ? exp(R->rho[i]) : 1.0, p = hx_cloud_profile(&R->cloud, cell_distance(R, z, y, x));
                 double part = R->cloud.has_cloud ? p - R->cloud.rho_ambient : p; /* clumps modulate the cloud only */
                 R->rho[i] = part * e;
-                sums[0] += part * e;
-                sums[1] += part;
+                hx_sum_add(&sums[0], part * e);
+                hx_sum_add(&sums[1], part);
             }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, sums, 2, MPI_DOUBLE, MPI_SUM, R->comm));
-    double norm = sums[0] > 0 ? sums[1] / sums[0] : 1.0, base = R->cloud.has_cloud ? R->cloud.rho_ambient : 0.0;
-    double mom[3] = {0, 0, 0}; /* sum rho, sum ln rho, sum (ln rho)^2 */
+    HX_TRY(hx_sum_allreduce(sums, 2, R->comm));
+    double s0 = hx_sum_value(&sums[0]), s1 = hx_sum_value(&sums[1]);
+    double norm = s0 > 0 ? s1 / s0 : 1.0, base = R->cloud.has_cloud ? R->cloud.rho_ambient : 0.0;
+    hx_sum mom[3] = {{0, 0}, {0, 0}, {0, 0}}; /* sum rho, sum ln rho, sum (ln rho)^2 */
     for (int64_t i = 0; i < n; i++) {
         R->rho[i] = base + R->rho[i] * norm;
         double l = log(R->rho[i]);
-        mom[0] += R->rho[i], mom[1] += l, mom[2] += l * l;
+        hx_sum_add(&mom[0], R->rho[i]), hx_sum_add(&mom[1], l), hx_sum_add(&mom[2], l * l);
     }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, mom, 3, MPI_DOUBLE, MPI_SUM, R->comm));
-    double N = (double)hx_grid_cells(g), ml = mom[1] / N;
-    R->res.density_mean = mom[0] / N;
-    R->res.sigma_s_written = sqrt(fmax(mom[2] / N - ml * ml, 0.0));
+    HX_TRY(hx_sum_allreduce(mom, 3, R->comm));
+    double N = (double)hx_grid_cells(g), ml = hx_sum_value(&mom[1]) / N;
+    R->res.density_mean = hx_sum_value(&mom[0]) / N;
+    R->res.sigma_s_written = sqrt(fmax(hx_sum_value(&mom[2]) / N - ml * ml, 0.0));
     HX_TRY(hx_io_write_doubles(R->io, R->rho_id, 0, R->rho));
     hx_log_say(R->log, HX_LOG_INFO, "density: %s%s, mean %.6g, sigma of ln rho %.4g; %.2f s",
                hx_density_model_name(r->density_model), r->clumps ? " with clumps" : "", R->res.density_mean,

@@ -15,6 +15,9 @@
 #include "helmix/cloud.h"
 #include "helmix/error.h"
 #include "helmix/grid.h"
+#include "helmix/sum.h"
+
+enum { HX_FLOW_SUMS = 1 + 3 + 9 + 3 + 3 + 9 };
 
 /* Sums under one weight w (rho, rho inside the cloud, or 1). */
 typedef struct hx_flow_w {
@@ -29,6 +32,9 @@ typedef struct hx_flow {
     hx_flow_w mass;   /* w = rho (or rho W) over the box                           */
     hx_flow_w region; /* w = rho inside the cloud (the box without a cloud)         */
     hx_flow_w volume; /* w = 1 over the box                                        */
+    /* the running sums behind the three weights, in the order w0, w1, w2, v1, v2, vx, kept
+     * double-double so that the reduced sums are the same on any number of ranks */
+    hx_sum acc[3][HX_FLOW_SUMS];
 } hx_flow;
 
 /* Collective: zero fl, find the centre of mass of rho (NULL: a uniform density), times the
