@@ -1,6 +1,6 @@
-/* cube.c — collective reading of velocity cubes (helmix files and foreign HDF5 layouts) into
- * the z slabs of an in-place r2c transform, and of the request and the physical state a
- * helmix file records.
+/* cube.c — collective reading of velocity cubes (helmix files and foreign HDF5 layouts), with
+ * an optional density and magnetic field, into the z slabs of an in-place r2c transform, and
+ * of the request and the physical state a helmix file records.
  * Invariant: every rank opens, selects and reads with identical metadata calls; a rank that
  * owns no planes selects nothing but still takes part in each collective read. */
 #include "helmix/cube.h"
@@ -16,18 +16,31 @@
 
 #define NAME_LEN 512
 
+/* The vector fields: velocity, magnetic, magnetic_face, by their first slot. */
+enum { NVEC = 3 };
+static const int VEC_SLOT[NVEC] = {HX_SLOT_VELOCITY, HX_SLOT_MAGNETIC, HX_SLOT_MAGNETIC_FACE};
+
 struct hx_cube {
     MPI_Comm comm;
     char path[HX_PATH_MAX];
     hid_t file;
-    hid_t dset[4];          /* x, y, z (or the 4-D set in all three), density */
-    char name[4][NAME_LEN];
-    int four_d, comp_first; /* 4-D layout: component axis first (1) or last (0) */
+    hid_t dset[HX_SLOT_COUNT];  /* by slot; a 4-D vector set sits in its first slot only */
+    char name[HX_SLOT_COUNT][NAME_LEN];
+    int four_d[NVEC], comp_first[NVEC]; /* 4-D layout: component axis first (1) or last (0) */
+    int single_vec[NVEC];
     hx_order order;
     int64_t n[3];           /* Nx, Ny, Nz */
     double box[3];
-    int single;
+    int single;             /* the velocity */
 };
+
+/* The vector field of a slot (0..NVEC-1), or -1 for the density. */
+static int vec_of(int slot)
+{
+    for (int v = NVEC - 1; v >= 0; v--)
+        if (slot >= VEC_SLOT[v] && slot < VEC_SLOT[v] + 3) return v;
+    return -1;
+}
 
 
 /* Open dataset `name`; on failure say which file lacks which dataset. */
@@ -72,19 +85,20 @@ static void dims_text(char *buf, size_t len, int rank, const hsize_t *d)
 /* Spatial dims in file order (3 values) of slot, checking the layout. */
 static hx_status spatial_dims(hx_cube *cu, int slot, int want4, hsize_t sp[3])
 {
-    int rank = 0, single = 0;
+    int rank = 0, single = 0, v = vec_of(slot);
     hsize_t d[4] = {0, 0, 0, 0};
     char txt[96];
     hx_status st = set_shape(cu, slot, &rank, d, &single);
     if (st != HX_OK) return st;
+    if (v >= 0) cu->single_vec[v] |= single;
     cu->single |= single && slot < 3;
     dims_text(txt, sizeof txt, rank, d);
     if (want4) {
         if (rank != 4 || (d[0] != 3 && d[3] != 3))
             return hx_error_set(HX_ERR_ARG, "%s in %s has shape %s: a single vector dataset must be 4-D with one axis of length 3 (first or last)",
                                 cu->name[slot], cu->path, txt);
-        cu->comp_first = d[0] == 3;
-        memcpy(sp, cu->comp_first ? d + 1 : d, 3 * sizeof *sp);
+        cu->comp_first[v] = d[0] == 3;
+        memcpy(sp, cu->comp_first[v] ? d + 1 : d, 3 * sizeof *sp);
         return HX_OK;
     }
     if (rank != 3) return hx_error_set(HX_ERR_ARG, "%s in %s has shape %s: need a 3-D dataset", cu->name[slot], cu->path, txt);
@@ -92,35 +106,80 @@ static hx_status spatial_dims(hx_cube *cu, int slot, int want4, hsize_t sp[3])
     return HX_OK;
 }
 
+/* Open vector field v from `text` ("PX,PY,PZ" or one 4-D "P", given by `option`), or from the
+ * helmix layout's `field` when text is NULL, and check that its components agree in shape;
+ * sp receives the spatial dims in file order. */
+static hx_status open_vector(hx_cube *cu, int v, const char *text, const char *field, const char *option,
+                             const char *hint, hsize_t sp[3])
+{
+    hx_status st = HX_OK;
+    const int s0 = VEC_SLOT[v];
+    hsize_t other[3];
+    if (!text) {
+        for (int c = 0; c < 3; c++) {
+            char name[NAME_LEN];
+            hx_schema_dataset(name, sizeof name, field, 3, c);
+            HX_TRY(open_set(cu, s0 + c, name, hint));
+        }
+    } else if (strchr(text, ',')) {
+        char buf[3 * NAME_LEN], *save = NULL, *tok;
+        snprintf(buf, sizeof buf, "%s", text);
+        int c = 0;
+        for (tok = strtok_r(buf, ",", &save); tok && c < 3; tok = strtok_r(NULL, ",", &save)) HX_TRY(open_set(cu, s0 + c++, tok, ""));
+        if (c != 3 || tok) HX_FAIL(HX_ERR_ARG, "%s %s: give three dataset paths PX,PY,PZ or one 4-D dataset", option, text);
+    } else {
+        cu->four_d[v] = 1;
+        HX_TRY(open_set(cu, s0, text, ""));
+        cu->dset[s0 + 1] = cu->dset[s0 + 2] = -1;
+        snprintf(cu->name[s0 + 1], NAME_LEN, "%s", text);
+        snprintf(cu->name[s0 + 2], NAME_LEN, "%s", text);
+    }
+    int nsets = cu->four_d[v] ? 1 : 3;
+    HX_TRY(spatial_dims(cu, s0, cu->four_d[v], sp));
+    for (int c = 1; c < nsets; c++) {
+        HX_TRY(spatial_dims(cu, s0 + c, 0, other));
+        if (memcmp(other, sp, sizeof other))
+            HX_FAIL(HX_ERR_ARG, "%s and %s in %s differ in shape", cu->name[s0], cu->name[s0 + c], cu->path);
+    }
+fail:
+    return st;
+}
+
+/* The magnetic fields: --magnetic / --magnetic-face, else the helmix layout's own when asked
+ * to look for them; each must have the velocity's shape (vel: its dims in file order). */
+static hx_status find_magnetic(hx_cube *cu, const hx_cube_spec *spec, const hsize_t vel[3])
+{
+    hx_status st = HX_OK;
+    const char *field[2] = {HX_FIELD_MAGNETIC, HX_FIELD_MAGNETIC_FACE}, *text[2] = {spec->magnetic, spec->magnetic_face};
+    const char *option[2] = {"--magnetic", "--magnetic-face"};
+    int open[2] = {0, 0};
+    for (int i = 0; i < 2; i++) {
+        char first[NAME_LEN];
+        hx_schema_dataset(first, sizeof first, field[i], 3, 0);
+        int own = !text[i] && !spec->magnetic && spec->find_magnetic && !spec->vector &&
+                  H5Lexists(cu->file, first, H5P_DEFAULT) > 0;
+        if (i == 1 && !open[0]) { /* a face field is analysed beside its cell-centred one */
+            if (text[i]) HX_FAIL(HX_ERR_ARG, "--magnetic-face %s: name the cell-centred field with --magnetic too", text[i]);
+            own = 0;
+        }
+        if (!text[i] && !own) continue;
+        hsize_t sp[3];
+        HX_TRY(open_vector(cu, 1 + i, text[i], field[i], option[i], "", sp));
+        if (memcmp(sp, vel, sizeof sp))
+            HX_FAIL(HX_ERR_ARG, "%s %s and velocity %s in %s differ in shape", field[i], cu->name[VEC_SLOT[1 + i]],
+                    cu->name[0], cu->path);
+        open[i] = 1;
+    }
+fail:
+    return st;
+}
+
 static hx_status find_sets(hx_cube *cu, const hx_cube_spec *spec)
 {
     hx_status st = HX_OK;
     hsize_t sp[4][3];
     const char *hint = spec->vector ? "" : " (not a helmix cube? name the datasets with --vector PX,PY,PZ)";
-    if (!spec->vector) {
-        for (int c = 0; c < 3; c++) {
-            char name[NAME_LEN];
-            hx_schema_dataset(name, sizeof name, HX_FIELD_VELOCITY, 3, c);
-            HX_TRY(open_set(cu, c, name, hint));
-        }
-    } else if (strchr(spec->vector, ',')) {
-        char buf[3 * NAME_LEN], *save = NULL, *tok;
-        snprintf(buf, sizeof buf, "%s", spec->vector);
-        int c = 0;
-        for (tok = strtok_r(buf, ",", &save); tok && c < 3; tok = strtok_r(NULL, ",", &save)) HX_TRY(open_set(cu, c++, tok, ""));
-        if (c != 3 || tok) HX_FAIL(HX_ERR_ARG, "--vector %s: give three dataset paths PX,PY,PZ or one 4-D dataset", spec->vector);
-    } else {
-        cu->four_d = 1;
-        HX_TRY(open_set(cu, 0, spec->vector, ""));
-        cu->dset[1] = cu->dset[2] = -1;
-        snprintf(cu->name[1], NAME_LEN, "%s", spec->vector);
-        snprintf(cu->name[2], NAME_LEN, "%s", spec->vector);
-    }
-    int nsets = cu->four_d ? 1 : 3;
-    for (int c = 0; c < nsets; c++) HX_TRY(spatial_dims(cu, c, cu->four_d, sp[c]));
-    for (int c = 1; c < nsets; c++)
-        if (memcmp(sp[c], sp[0], sizeof sp[0]))
-            HX_FAIL(HX_ERR_ARG, "%s and %s in %s differ in shape", cu->name[0], cu->name[c], cu->path);
+    HX_TRY(open_vector(cu, 0, spec->vector, HX_FIELD_VELOCITY, "--vector", hint, sp[0]));
     char own[NAME_LEN]; /* the helmix layout's density, found without --density */
     hx_schema_dataset(own, sizeof own, HX_FIELD_DENSITY, 1, 0);
     /* a helmix file (one that records its state) is analysed in its own density */
@@ -129,11 +188,12 @@ static hx_status find_sets(hx_cube *cu, const hx_cube_spec *spec)
     const char *density = spec->density;
     if (!density && helmix && H5Lexists(cu->file, own, H5P_DEFAULT) > 0) density = own;
     if (density) {
-        HX_TRY(open_set(cu, 3, density, ""));
-        HX_TRY(spatial_dims(cu, 3, 0, sp[3]));
+        HX_TRY(open_set(cu, HX_SLOT_DENSITY, density, ""));
+        HX_TRY(spatial_dims(cu, HX_SLOT_DENSITY, 0, sp[3]));
         if (memcmp(sp[3], sp[0], sizeof sp[0]))
             HX_FAIL(HX_ERR_ARG, "density %s and velocity %s in %s differ in shape", cu->name[3], cu->name[0], cu->path);
     }
+    HX_TRY(find_magnetic(cu, spec, sp[0]));
     for (int a = 0; a < 3; a++) cu->n[a] = (int64_t)(cu->order == HX_ORDER_ZYX ? sp[0][2 - a] : sp[0][a]);
 fail:
     return st;
@@ -163,7 +223,7 @@ hx_status hx_cube_open(hx_cube **out, const hx_cube_spec *spec, MPI_Comm comm)
     HX_ALLOC(cu, 1);
     cu->comm = comm;
     cu->file = -1;
-    for (int i = 0; i < 4; i++) cu->dset[i] = -1;
+    for (int i = 0; i < HX_SLOT_COUNT; i++) cu->dset[i] = -1;
     cu->order = spec->order;
     snprintf(cu->path, sizeof cu->path, "%s", spec->file);
     for (int a = 0; a < 3; a++) cu->box[a] = 1.0;
@@ -193,41 +253,52 @@ void hx_cube_shape(const hx_cube *cu, int64_t cells[3], double box[3])
 
 int hx_cube_single(const hx_cube *cu) { return cu->single; }
 
-int hx_cube_has_density(const hx_cube *cu) { return cu->dset[3] >= 0; }
+int hx_cube_has_density(const hx_cube *cu) { return cu->dset[HX_SLOT_DENSITY] >= 0; }
 
-/* File selection of this rank's planes of component c; returns the element count selected. */
-static hx_status select_file(const hx_cube *cu, int c, hid_t space, const hx_grid *g)
+int hx_cube_has_field(const hx_cube *cu, int slot) { return slot >= 0 && slot < HX_SLOT_COUNT && cu->dset[slot] >= 0; }
+
+int hx_cube_field_single(const hx_cube *cu, int slot)
+{
+    int v = vec_of(slot);
+    return v >= 0 ? cu->single_vec[v] : cu->single;
+}
+
+/* File selection of planes [z0, z0 + nz) of slot c. */
+static hx_status select_file(const hx_cube *cu, int c, hid_t space, const hx_grid *g, int64_t z0, int64_t nz)
 {
     hx_status st = HX_OK;
     hsize_t start[4] = {0, 0, 0, 0}, count[4] = {1, 1, 1, 1};
-    int four = cu->four_d && c < 3, off = four && cu->comp_first ? 1 : 0;
+    int v = vec_of(c), four = v >= 0 && cu->four_d[v], off = four && cu->comp_first[v] ? 1 : 0;
     hsize_t sp_start[3], sp_count[3];
     if (cu->order == HX_ORDER_ZYX) {
-        sp_start[0] = (hsize_t)g->z0, sp_count[0] = (hsize_t)g->nz;
+        sp_start[0] = (hsize_t)z0, sp_count[0] = (hsize_t)nz;
         sp_start[1] = 0, sp_count[1] = (hsize_t)g->n[1];
         sp_start[2] = 0, sp_count[2] = (hsize_t)g->n[0];
     } else {
         sp_start[0] = 0, sp_count[0] = (hsize_t)g->n[0];
         sp_start[1] = 0, sp_count[1] = (hsize_t)g->n[1];
-        sp_start[2] = (hsize_t)g->z0, sp_count[2] = (hsize_t)g->nz;
+        sp_start[2] = (hsize_t)z0, sp_count[2] = (hsize_t)nz;
     }
     for (int i = 0; i < 3; i++) start[i + off] = sp_start[i], count[i + off] = sp_count[i];
-    if (four) start[cu->comp_first ? 0 : 3] = (hsize_t)c;
-    if (g->nz == 0) HX_H5OK(H5Sselect_none(space));
+    if (four) start[cu->comp_first[v] ? 0 : 3] = (hsize_t)(c - VEC_SLOT[v]);
+    if (nz == 0) HX_H5OK(H5Sselect_none(space));
     else HX_H5OK(H5Sselect_hyperslab(space, H5S_SELECT_SET, start, NULL, count, NULL));
 fail:
     return st;
 }
 
-hx_status hx_cube_read(hx_cube *cu, int c, const hx_grid *g, double *dst, int64_t stride)
+/* Collective: planes [z0, z0 + nz) of slot c into dst, rows of Nx values `stride` apart. */
+static hx_status read_planes(hx_cube *cu, int c, const hx_grid *g, int64_t z0, int64_t nz, double *dst, int64_t stride)
 {
     hx_status st = HX_OK;
-    hid_t set = cu->four_d && c < 3 ? cu->dset[0] : cu->dset[c];
+    int v = vec_of(c);
+    hid_t set = v >= 0 && cu->four_d[v] ? cu->dset[VEC_SLOT[v]] : cu->dset[c];
     hid_t fspace = -1, mspace = -1, dxpl = -1;
     double *tmp = NULL;
-    int64_t nx = g->n[0], ny = g->n[1], nz = g->nz;
+    int64_t nx = g->n[0], ny = g->n[1];
+    if (set < 0) return hx_error_set(HX_ERR_ARG, "%s: no dataset open for slot %d", cu->path, c);
     HX_H5(fspace, H5Dget_space(set));
-    HX_TRY(select_file(cu, c, fspace, g));
+    HX_TRY(select_file(cu, c, fspace, g, z0, nz));
     HX_H5(dxpl, H5Pcreate(H5P_DATASET_XFER));
     HX_H5OK(H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE));
     void *buf = dst;
@@ -246,7 +317,7 @@ hx_status hx_cube_read(hx_cube *cu, int c, const hx_grid *g, double *dst, int64_
         buf = tmp;
     }
     if (H5Dread(set, H5T_NATIVE_DOUBLE, mspace, fspace, dxpl, buf) < 0)
-        HX_FAIL(HX_ERR_ARG, "reading %s from %s failed (truncated or damaged file?)", cu->name[c < 3 ? c : 3], cu->path);
+        HX_FAIL(HX_ERR_ARG, "reading %s from %s failed (truncated or damaged file?)", cu->name[c], cu->path);
     if (tmp) /* xyz order: z fastest in the file, x fastest in the slab */
         for (int64_t x = 0; x < nx; x++)
             for (int64_t y = 0; y < ny; y++)
@@ -257,6 +328,16 @@ fail:
     if (mspace >= 0) H5Sclose(mspace);
     if (fspace >= 0) H5Sclose(fspace);
     return st;
+}
+
+hx_status hx_cube_read(hx_cube *cu, int c, const hx_grid *g, double *dst, int64_t stride)
+{
+    return read_planes(cu, c, g, g->z0, g->nz, dst, stride);
+}
+
+hx_status hx_cube_read_plane(hx_cube *cu, int c, const hx_grid *g, int64_t z, double *dst)
+{
+    return read_planes(cu, c, g, z, g->nz > 0 ? 1 : 0, dst, g->n[0]);
 }
 
 /* A numeric attribute of exactly n values (integers are converted), into v. */
@@ -361,18 +442,38 @@ static double maybe(hid_t g, const char *name)
     return read_double(g, name, &v) ? v : NAN;
 }
 
+/* The value of /dataset_units/NAME when its "unit" attribute says `unit`, else NAN. */
+static double unit_value(hx_cube *cu, const char *name, const char *unit)
+{
+    char path[128], text[32];
+    double v = NAN;
+    snprintf(path, sizeof path, HX_SCHEMA_UNITS "/%s", name);
+    if (H5Lexists(cu->file, HX_SCHEMA_UNITS, H5P_DEFAULT) <= 0 || H5Lexists(cu->file, path, H5P_DEFAULT) <= 0) return NAN;
+    hid_t d = H5Dopen2(cu->file, path, H5P_DEFAULT), sp = d >= 0 ? H5Dget_space(d) : -1;
+    int ok = sp >= 0 && H5Sget_simple_extent_npoints(sp) == 1 && read_string(d, "unit", text, sizeof text) &&
+             !strcmp(text, unit) && H5Dread(d, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, &v) >= 0;
+    if (sp >= 0) H5Sclose(sp);
+    if (d >= 0) H5Dclose(d);
+    return ok && v > 0 && isfinite(v) ? v : NAN;
+}
+
 hx_status hx_cube_read_state(hx_cube *cu, hx_cube_state *s)
 {
     char text[32];
     memset(s, 0, sizeof *s);
     double *nan_fields[] = {&s->sound_speed,  &s->G,          &s->vrms_asked, &s->mach_asked,   &s->virial_asked,
                             &s->sigma_3d_asked, &s->sigma_s_asked, &s->vrms,   &s->sigma_3d,     &s->mach,
-                            &s->virial,       &s->momentum_rel, &s->density_mean, &s->sigma_s, &s->region_mass};
+                            &s->virial,       &s->momentum_rel, &s->density_mean, &s->sigma_s, &s->region_mass,
+                            &s->gamma,        &s->b_random_rms, &s->b_rms,    &s->b_face_rms,   &s->beta,
+                            &s->alfven_mach,  &s->beta_asked, &s->alfven_mach_asked};
     for (size_t i = 0; i < sizeof nan_fields / sizeof *nan_fields; i++) *nan_fields[i] = NAN;
     for (int a = 0; a < 3; a++) {
         s->momentum[a] = NAN;
+        s->b0[a] = NAN;
         s->center[a] = 0.5 * cu->box[a];
     }
+    s->unit_velocity_cm_s = unit_value(cu, HX_UNITS_VELOCITY, "cm/s");
+    s->unit_magnetic_gauss = unit_value(cu, HX_UNITS_MAGNETIC, "gauss");
     s->radius = 0.5 * fmax(cu->box[0], fmax(cu->box[1], cu->box[2])); /* the virial convention of a box */
     if (H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) > 0) {
         hid_t p = H5Gopen2(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT);
@@ -404,6 +505,17 @@ hx_status hx_cube_read_state(hx_cube *cu, hx_cube_state *s)
     s->density_mean = maybe(g, HX_STATE_DENSITY_MEAN);
     s->sigma_s = maybe(g, HX_STATE_SIGMA_S);
     s->region_mass = maybe(g, HX_STATE_REGION_MASS);
+    s->gamma = maybe(g, HX_STATE_GAMMA);
+    if (!read_doubles(g, HX_STATE_MAGNETIC_B0, s->b0, 3))
+        for (int a = 0; a < 3; a++) s->b0[a] = NAN;
+    s->b_random_rms = maybe(g, HX_STATE_MAGNETIC_RANDOM_RMS);
+    s->b_rms = maybe(g, HX_STATE_MAGNETIC_RMS);
+    s->b_face_rms = maybe(g, HX_STATE_MAGNETIC_FACE_RMS);
+    s->beta = maybe(g, HX_STATE_BETA);
+    s->alfven_mach = maybe(g, HX_STATE_ALFVEN_MACH);
+    s->beta_asked = maybe(g, HX_STATE_BETA_ASKED);
+    s->alfven_mach_asked = maybe(g, HX_STATE_ALFVEN_MACH_ASKED);
+    if (!isfinite(s->unit_magnetic_gauss)) s->unit_magnetic_gauss = maybe(g, HX_STATE_UNIT_MAGNETIC);
     double m[3], flags[3], cloud = 0, center[3], radius = NAN;
     if (read_doubles(g, HX_STATE_MOMENTUM, m, 3)) memcpy(s->momentum, m, sizeof m);
     if (read_doubles(g, HX_STATE_FLAGS, flags, 3))
@@ -442,12 +554,29 @@ void hx_cube_request_state(const hx_cube_state *s, hx_request *q)
     if (s->flags[0]) q->tol_slope = NAN;
 }
 
+void hx_cube_request_magnetic(const hx_cube_state *s, int single, hx_request *q)
+{
+    if (!s->found || !(isfinite(s->b0[0]) && isfinite(s->b0[1]) && isfinite(s->b0[2]))) return;
+    q->has_magnetic = 1;
+    memcpy(q->b0, s->b0, sizeof q->b0);
+    q->b_random_rms = isfinite(s->b_random_rms) ? s->b_random_rms : 0.0;
+    /* beta and M_A of a zero uniform field are infinite: nothing then to judge */
+    q->beta = pick(s->beta_asked, s->beta, &q->asked_beta);
+    q->alfven_mach = pick(s->alfven_mach_asked, s->alfven_mach, &q->asked_alfven_mach);
+    if (!isfinite(q->beta)) q->beta = NAN;
+    if (!isfinite(q->alfven_mach)) q->alfven_mach = NAN;
+    /* sums over stored values keep ~7 digits in single and ~15 in double precision; a
+     * divergence of round-off size is ~1e-7 and ~1e-16 of the gradient scale */
+    q->tol_magnetic = single ? 1e-5 : 1e-9;
+    q->tol_divergence = single ? 1e-5 : 1e-12;
+}
+
 void hx_cube_close(hx_cube **cube)
 {
     if (!cube || !*cube) return;
     hx_cube *cu = *cube;
-    for (int i = 0; i < 4; i++)
-        if (cu->dset[i] >= 0 && !(cu->four_d && (i == 1 || i == 2))) H5Dclose(cu->dset[i]);
+    for (int i = 0; i < HX_SLOT_COUNT; i++) /* a 4-D set is held by its first slot only */
+        if (cu->dset[i] >= 0) H5Dclose(cu->dset[i]);
     if (cu->file >= 0) H5Fclose(cu->file);
     free(cu);
     *cube = NULL;

@@ -1,6 +1,7 @@
 /* diag.c — the shared summary of a cube: real-space moments and PDFs, shell energies,
- * compressive share and the compensated slope fit, and the state of a velocity in a density
- * (dispersion, Mach number, virial parameter, momentum). Used by make (from its k-space sums
+ * compressive share and the compensated slope fit, the state of a velocity in a density
+ * (dispersion, Mach number, virial parameter, momentum) and the magnetic field's numbers
+ * (mean field, random rms, beta, Alfven Mach number). Used by make (from its k-space sums
  * and the values it writes) and by inspect (from a cube it reads). */
 #include "helmix/diag.h"
 
@@ -20,6 +21,10 @@ void hx_diag_clear(hx_diag *d)
     free(d->slice_speed);
     free(d->slice_div);
     free(d->slice_vort);
+    if (d->magnetic) {
+        hx_diag_clear(&d->magnetic->field);
+        free(d->magnetic);
+    }
     memset(d, 0, sizeof *d);
 }
 
@@ -223,4 +228,20 @@ void hx_diag_set_state(hx_diag *d, const hx_state_sums *s)
     const double s1d2 = d->sigma_3d * d->sigma_3d / 3.0;
     d->virial = d->gravity > 0 && d->region_mass > 0 ? 5.0 * s1d2 * d->radius / (d->gravity * d->region_mass) : NAN;
     d->momentum_rel = d->mass > 0 && d->vrms > 0 ? sqrt(p2) / (d->mass * d->vrms) : NAN;
+}
+
+void hx_diag_set_magnetic(hx_magnetic *m)
+{
+    const hx_diag *b = &m->field;
+    const double b2 = b->mean[0] * b->mean[0] + b->mean[1] * b->mean[1] + b->mean[2] * b->mean[2];
+    m->mean_abs = sqrt(b2);
+    /* the random part is every mode but k = 0: its rms from the shell sums (Parseval), with no
+     * cancellation against a large mean field */
+    m->random_rms = sqrt(2.0 * b->e_total);
+    m->div_spectral = b->e_total > 0 ? b->div_ratio : 0.0;
+    /* code units: v_A = B / sqrt(rho), beta = 2 P / B^2 (Gaussian units, NRL Plasma Formulary) */
+    const double rho = m->density_mean, P = rho * m->sound_speed * m->sound_speed / m->gamma;
+    m->v_alfven = rho > 0 ? m->mean_abs / sqrt(rho) : NAN;
+    m->beta = !(m->sound_speed > 0 && m->gamma > 0) ? NAN : b2 > 0 ? 2.0 * P / b2 : INFINITY;
+    m->alfven_mach = !(m->sigma_3d >= 0 && m->v_alfven >= 0) ? NAN : m->v_alfven > 0 ? m->sigma_3d / m->v_alfven : INFINITY;
 }

@@ -1,11 +1,15 @@
-/* inspect.c — the analysis pipeline: read a component, transform, accumulate, repeat.
+/* inspect.c — the analysis pipeline: read a component, transform, accumulate, repeat; once
+ * for the velocity and, when the cube holds one, once more for the magnetic field, through the
+ * same analysis of a vector field (analyse_field), then the discrete divergence of the
+ * face-centred magnetic field.
  * Memory per rank: slab A (the component, real then complex, in place), slab B (k̂·v̂ summed
- * over components), optional density slab and optional mid-plane spectra. With a density the
+ * over components; the face divergence's real accumulator afterwards), optional density slab,
+ * optional mid-plane spectra, and one real z plane for the face divergence. With a density the
  * state (mass-weighted dispersion, Mach number, virial parameter, momentum, ln rho) is summed
- * in real space from each component as it is read, before it is weighted or transformed.
+ * in real space from each velocity component as it is read, before it is weighted or transformed.
  * Invariants: v̂ = FFT(v)/N; the r2c half is weighted 2 except the kx = 0 and Nyquist planes
  * (weight 1, their partners are stored); Nyquist frequencies are negative (numpy's fftfreq);
- * k = 0 (the mean flow) enters no energy, spectrum or gradient. */
+ * k = 0 (the mean flow, the mean magnetic field) enters no energy, spectrum or gradient. */
 #include "helmix/inspect.h"
 
 #include <complex.h>
@@ -19,6 +23,17 @@
 
 enum { PV = 0, PW = 3, PDIV = 6, NPLANE = 7 }; /* plane slots: v xyz, vorticity xyz, divergence */
 
+/* The vector field one pass of the component loop analyses, and what the pass does besides
+ * the shell and gradient sums. */
+typedef struct {
+    int slot;         /* the cube slot of its x component (HX_SLOT_VELOCITY, HX_SLOT_MAGNETIC) */
+    int state;        /* 1: add each component to the state's sums (the velocity in a density) */
+    int weight;       /* 1: decompose sqrt(rho) times the field                               */
+    double ell;       /* > 0: subtract the field smoothed on this scale first                 */
+    int slices;       /* 1: accumulate the mid-plane spectra                                   */
+    const char *what; /* for progress lines                                                    */
+} field_t;
+
 typedef struct {
     hx_grid g;
     MPI_Comm comm;
@@ -27,15 +42,13 @@ typedef struct {
     double *kp[3], *ku[3];   /* per axis: physical wavenumber, wavenumber in units of 2 pi / lmax */
     int *shell_of;           /* cubic boxes: shell of each integer |k|^2 (units 2 pi / lmax)     */
     double *rho;       /* this rank's density, nz * Ny * Nx (NULL without one)        */
-    int weight;        /* 1: decompose sqrt(rho) v                                    */
+    field_t f;         /* the field being analysed                                    */
     int cloud;         /* the region of the state: a sphere (1) or the box (0)         */
     double center[3], radius;
     hx_state_sums S;   /* the state's sums (reduced where hx_diag_set_state needs them) */
     fftw_plan r2c, c2r;
-    double ell;        /* remove_scale */
     const char *file, *density; /* for messages */
     double grad2, div2; /* local sums of |k|^2 |v̂|^2 and |k·v̂|^2 (both halves) */
-    int slices;
 } work_t;
 
 /* One mode of the local k-space slab. */
@@ -109,7 +122,7 @@ static int shells_needed(const hx_grid *g)
 static void accumulate(work_t *W, int c, hx_diag *d)
 {
     const hx_grid *g = &W->g;
-    const double inv_n = 1.0 / (double)hx_grid_cells(g), l2 = W->ell * W->ell;
+    const double inv_n = 1.0 / (double)hx_grid_cells(g), l2 = W->f.ell * W->f.ell;
     double complex *A = (double complex *)W->a, *B = (double complex *)W->b, *P = (double complex *)W->planes;
     ptrdiff_t plane = g->ny * g->nxc;
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
@@ -119,7 +132,7 @@ static void accumulate(work_t *W, int c, hx_diag *d)
                 kmode_t m;
                 kmode(W, y, z, x, &m);
                 double complex X = A[i] * inv_n;
-                if (W->ell > 0) X *= 1.0 - exp(-0.5 * m.k2p * l2);
+                if (W->f.ell > 0) X *= 1.0 - exp(-0.5 * m.k2p * l2);
                 A[i] = X; /* kept for the inverse transform of --remove-scale */
                 if (m.k2p == 0) continue;
                 double e = creal(X * conj(X));
@@ -132,7 +145,7 @@ static void accumulate(work_t *W, int c, hx_diag *d)
                     partner_k(W, y, z, &m, kq);
                     *m.partner += kq[c] * conj(X);
                 }
-                if (!W->slices) continue;
+                if (!W->f.slices) continue;
                 ptrdiff_t p = (y - g->y0) * g->nxc + x;
                 double complex iX = I * X * m.zsign;
                 /* vorticity i k x v̂: v_c adds +i k_{c+2} v_c to w_{c+1} and -i k_{c+1} v_c to w_{c+2} */
@@ -165,7 +178,7 @@ static void accumulate_div(work_t *W, hx_diag *d)
                 }
                 d->shell_comp[m.shell] += 0.5 * wt * e * inv;
                 W->div2 += wt * e;
-                if (W->slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * D * m.zsign;
+                if (W->f.slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * D * m.zsign;
             }
 }
 
@@ -275,28 +288,22 @@ static hx_status setup(work_t *W, const hx_inspect_opts *o, hx_cube *cube, MPI_C
     W->comm = comm;
     W->file = o->cube.file;
     W->density = o->cube.density ? o->cube.density : HX_SCHEMA_GRID "/" HX_FIELD_DENSITY;
-    W->ell = o->remove_scale;
-    W->slices = o->slices;
     W->a = fftw_alloc_complex((size_t)g->alloc);
     W->b = fftw_alloc_complex((size_t)g->alloc);
-    if (W->slices) W->planes = fftw_alloc_complex((size_t)(NPLANE * (g->ny > 0 ? g->ny : 1) * g->nxc));
+    if (o->slices) W->planes = fftw_alloc_complex((size_t)(NPLANE * (g->ny > 0 ? g->ny : 1) * g->nxc));
     HX_TRY(hx_error_agree(comm, tables(W)));
     W->pny = fftw_alloc_complex((size_t)(g->n[2] * g->nxc));
     W->pnz = fftw_alloc_complex((size_t)((g->ny > 0 ? g->ny : 1) * g->nxc));
     int has_rho = hx_cube_has_density(cube);
     if (has_rho) W->rho = malloc((size_t)(g->nz > 0 ? g->nz : 1) * (size_t)g->n[1] * (size_t)g->n[0] * sizeof(double));
-    if (!W->a || !W->b || !W->pny || !W->pnz || (W->slices && !W->planes) || (has_rho && !W->rho))
+    if (!W->a || !W->b || !W->pny || !W->pnz || (o->slices && !W->planes) || (has_rho && !W->rho))
         st = hx_error_set(HX_ERR_MEM, "cannot allocate the analysis slabs (%.1f MiB each) on rank %d",
                           (double)g->alloc * 16.0 / 1048576.0, g->rank);
     HX_TRY(hx_error_agree(comm, st));
-    memset(W->b, 0, (size_t)g->alloc * sizeof(fftw_complex));
-    memset(W->pny, 0, (size_t)(g->n[2] * g->nxc) * sizeof(fftw_complex));
-    memset(W->pnz, 0, (size_t)((g->ny > 0 ? g->ny : 1) * g->nxc) * sizeof(fftw_complex));
-    if (W->slices) memset(W->planes, 0, (size_t)(NPLANE * (g->ny > 0 ? g->ny : 1) * g->nxc) * sizeof(fftw_complex));
     W->r2c = fftw_mpi_plan_dft_r2c_3d(g->n[2], g->n[1], g->n[0], (double *)W->a, W->a, comm, FFTW_ESTIMATE | FFTW_MPI_TRANSPOSED_OUT);
-    if (W->ell > 0)
+    if (o->remove_scale > 0)
         W->c2r = fftw_mpi_plan_dft_c2r_3d(g->n[2], g->n[1], g->n[0], W->a, (double *)W->a, comm, FFTW_ESTIMATE | FFTW_MPI_TRANSPOSED_IN);
-    st = W->r2c && (W->ell <= 0 || W->c2r) ? HX_OK : hx_error_set(HX_ERR_FFTW, "FFTW could not plan the analysis transforms");
+    st = W->r2c && (o->remove_scale <= 0 || W->c2r) ? HX_OK : hx_error_set(HX_ERR_FFTW, "FFTW could not plan the analysis transforms");
     HX_TRY(hx_error_agree(comm, st));
 fail:
     return st;
@@ -364,16 +371,16 @@ fail:
     return st;
 }
 
-/* Read component c into slab A, add it to the state's sums and weight it by sqrt(rho) when
- * sqrt(rho) v is decomposed; collective. */
+/* Read component c of the field into slab A, add it to the state's sums when the pass takes
+ * the state, and weight it by sqrt(rho) when sqrt(rho) v is decomposed; collective. */
 static hx_status load(work_t *W, hx_cube *cube, int c)
 {
     const hx_grid *g = &W->g;
     int64_t stride = 2 * g->nxc;
-    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, c, g, (double *)W->a, stride));
-    if (st != HX_OK || !W->rho) return st;
+    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, W->f.slot + c, g, (double *)W->a, stride));
+    if (st != HX_OK || !W->rho || !W->f.state) return st;
     double *v = (double *)W->a;
-    if ((st = state_component(W, c, v, stride)) != HX_OK || !W->weight) return st;
+    if ((st = state_component(W, c, v, stride)) != HX_OK || !W->f.weight) return st;
     for (ptrdiff_t r = 0; r < g->nz * g->n[1]; r++)
         for (ptrdiff_t x = 0; x < g->n[0]; x++) v[r * stride + x] *= sqrt(W->rho[r * g->n[0] + x]);
     return HX_OK;
@@ -385,7 +392,7 @@ static hx_status read_density(work_t *W, hx_cube *cube)
 {
     const hx_grid *g = &W->g;
     const ptrdiff_t nx = g->n[0];
-    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, 3, g, W->rho, nx));
+    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, HX_SLOT_DENSITY, g, W->rho, nx));
     if (st != HX_OK) return st;
     double s[5] = {0, 0, 0, 0, 0}; /* sum rho, sum_R rho, sum ln rho, cells with rho = 0, bad cells */
     for (ptrdiff_t z = 0; z < g->nz; z++)
@@ -429,6 +436,161 @@ static void default_fit(hx_diag *d, const hx_inspect_opts *o, const hx_request *
     else d->fit_kmin = 2, d->fit_kmax = (double)(nmin / 4);
 }
 
+/* Zero the accumulators of a pass: slab B, the Nyquist partners, the planes, the gradient sums. */
+static void clear_sums(work_t *W)
+{
+    const hx_grid *g = &W->g;
+    memset(W->b, 0, (size_t)g->alloc * sizeof(fftw_complex));
+    memset(W->pny, 0, (size_t)(g->n[2] * g->nxc) * sizeof(fftw_complex));
+    memset(W->pnz, 0, (size_t)((g->ny > 0 ? g->ny : 1) * g->nxc) * sizeof(fftw_complex));
+    if (W->planes) memset(W->planes, 0, (size_t)(NPLANE * (g->ny > 0 ? g->ny : 1) * g->nxc) * sizeof(fftw_complex));
+    W->grad2 = W->div2 = 0;
+}
+
+/* Collective: the analysis of the vector field W->f into d — per component its moments,
+ * shell sums, k̂·v̂ and (for the velocity) the state and the mid-plane spectra; then the
+ * compressive shells, the divergence and the reductions. The slope fit and the energies are
+ * left to the caller (hx_diag_finish after choosing the fit range). */
+static hx_status analyse_field(work_t *W, hx_cube *cube, const hx_log *log, hx_diag *d)
+{
+    hx_status st = HX_OK;
+    const hx_grid *g = &W->g;
+    const MPI_Comm comm = W->comm;
+    const int64_t stride = 2 * g->nxc, ntot = hx_grid_cells(g);
+    clear_sums(W);
+    for (int c = 0; c < 3; c++) {
+        HX_TRY(load(W, cube, c));
+        if (W->f.ell <= 0) HX_TRY(hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm));
+        fftw_execute(W->r2c);
+        accumulate(W, c, d);
+        if (W->f.ell > 0) {
+            fftw_execute(W->c2r);
+            HX_TRY(hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm));
+        }
+        hx_log_say(log, HX_LOG_INFO, "%s component %c analysed", W->f.what, "xyz"[c]);
+    }
+    accumulate_div(W, d);
+    if (W->f.state) HX_TRY(state_finish(W, d));
+    int ns = d->nshell;
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_e, ns, MPI_DOUBLE, MPI_SUM, comm));
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_comp, ns, MPI_DOUBLE, MPI_SUM, comm));
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_modes, ns, MPI_DOUBLE, MPI_SUM, comm));
+    double sums[2] = {W->grad2, W->div2};
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, sums, 2, MPI_DOUBLE, MPI_SUM, comm));
+    d->div_rms = sqrt(sums[1]);
+    d->vort_rms = sqrt(fmax(sums[0] - sums[1], 0.0));
+    d->div_ratio = sums[0] > 0 ? d->div_rms / sqrt(sums[0]) : NAN;
+    d->vort_ratio = sums[0] > 0 ? d->vort_rms / sqrt(sums[0]) : NAN;
+fail:
+    return st;
+}
+
+/* The magnetic spectrum's fit range: --fit, else [2, N/4] ended at the last shell that holds
+ * more than round-off (1e-10 of the largest shell): a band-limited field keeps no slope beyond
+ * its band, and single-precision noise there would bend the fit. */
+static void magnetic_fit(hx_diag *b, const hx_inspect_opts *o)
+{
+    int64_t nmin = b->cells[0] < b->cells[1] ? b->cells[0] : b->cells[1];
+    nmin = nmin < b->cells[2] ? nmin : b->cells[2];
+    if (o->fit[1] > 0) {
+        b->fit_kmin = o->fit[0], b->fit_kmax = o->fit[1];
+        return;
+    }
+    double emax = 0;
+    int last = 0;
+    for (int s = 1; s < b->nshell; s++) emax = fmax(emax, b->shell_e[s]);
+    for (int s = 1; s < b->nshell; s++)
+        if (b->shell_e[s] > 1e-10 * emax) last = s;
+    b->fit_kmin = 2;
+    b->fit_kmax = fmin((double)(nmin / 4), (double)last);
+}
+
+/* Collective: the discrete divergence of the face-centred field, Σ_c (B_c[i_c + 1] − B_c[i_c]) / dx_c
+ * on the periodic grid, summed component by component into slab B (free after the cell-centred
+ * pass) as real values; the z difference of the last plane of a slab needs the first plane of
+ * the next one, read as one more plane. Gives face_rms, face_div_max and face_div. */
+static hx_status face_divergence(work_t *W, hx_cube *cube, hx_magnetic *m)
+{
+    hx_status st = HX_OK;
+    const hx_grid *g = &W->g;
+    const ptrdiff_t nx = g->n[0], ny = g->n[1], nz = g->nz;
+    const int64_t stride = 2 * g->nxc;
+    double *div = (double *)W->b, *v = (double *)W->a, *next = malloc((size_t)(nx * ny) * sizeof(double));
+    double dx[3], sums[2] = {0, 0}, worst = 0; /* sums: Σ |B|^2, cells whose divergence is not a number */
+    HX_TRY(hx_error_agree(W->comm, next ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for one plane of %s",
+                                                              HX_FIELD_MAGNETIC_FACE)));
+    for (int a = 0; a < 3; a++) dx[a] = g->box[a] / (double)g->n[a];
+    memset(div, 0, (size_t)(nz * ny * nx) * sizeof(double));
+    for (int c = 0; c < 3; c++) {
+        HX_TRY(hx_error_agree(W->comm, hx_cube_read(cube, HX_SLOT_MAGNETIC_FACE + c, g, v, stride)));
+        if (c == 2) /* every rank takes part; a rank without planes reads none */
+            HX_TRY(hx_error_agree(W->comm, hx_cube_read_plane(cube, HX_SLOT_MAGNETIC_FACE + 2, g, (g->z0 + nz) % g->n[2], next)));
+        for (ptrdiff_t z = 0; z < nz; z++)
+            for (ptrdiff_t y = 0; y < ny; y++) {
+                const double *row = v + (z * ny + y) * stride, *up = row + 1; /* the high face of each cell */
+                double *out = div + (z * ny + y) * nx;
+                if (c == 1) up = v + (z * ny + (y + 1) % ny) * stride;
+                if (c == 2) up = z + 1 < nz ? v + ((z + 1) * ny + y) * stride : next + y * nx;
+                for (ptrdiff_t x = 0; x < nx; x++) sums[0] += row[x] * row[x];
+                if (c == 0) {
+                    for (ptrdiff_t x = 0; x + 1 < nx; x++) out[x] += (up[x] - row[x]) / dx[0];
+                    out[nx - 1] += (row[0] - row[nx - 1]) / dx[0];
+                } else
+                    for (ptrdiff_t x = 0; x < nx; x++) out[x] += (up[x] - row[x]) / dx[c];
+            }
+    }
+    for (ptrdiff_t i = 0; i < nz * ny * nx; i++) {
+        double a = fabs(div[i]);
+        if (a > worst) worst = a;
+        else if (!(a <= worst)) sums[1] += 1;
+    }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &worst, 1, MPI_DOUBLE, MPI_MAX, W->comm));
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, sums, 2, MPI_DOUBLE, MPI_SUM, W->comm));
+    const double dmin = fmin(dx[0], fmin(dx[1], dx[2]));
+    m->has_face = 1;
+    m->face_rms = sqrt(sums[0] / (double)hx_grid_cells(g));
+    m->face_div_max = sums[1] > 0 ? NAN : worst;
+    m->face_div = sums[1] > 0 ? NAN : worst > 0 ? worst / (m->face_rms / dmin) : 0.0;
+fail:
+    free(next);
+    return st;
+}
+
+/* Collective: the magnetic field through the same analysis as the velocity (its own summary in
+ * d->magnetic, no state, no weighting, no smoothing, no slices), then beta and M_A of its mean
+ * with the velocity's dispersion in d, and the face divergence when a face-centred field is open. */
+static hx_status analyse_magnetic(work_t *W, hx_cube *cube, const hx_inspect_opts *o, const hx_cube_state *s,
+                                  const hx_log *log, hx_diag *d)
+{
+    hx_status st = HX_OK;
+    hx_magnetic *m = calloc(1, sizeof *m);
+    HX_TRY(hx_error_agree(W->comm, m ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for the magnetic summary")));
+    d->magnetic = m; /* freed with d */
+    hx_diag *b = &m->field;
+    memcpy(b->cells, d->cells, sizeof b->cells);
+    memcpy(b->box, d->box, sizeof b->box);
+    b->ranks = d->ranks;
+    m->single = hx_cube_field_single(cube, HX_SLOT_MAGNETIC);
+    HX_TRY(hx_error_agree(W->comm, hx_diag_shells(b, shells_needed(&W->g))));
+    W->f = (field_t){HX_SLOT_MAGNETIC, 0, 0, 0.0, 0, "magnetic"};
+    HX_TRY(analyse_field(W, cube, log, b));
+    magnetic_fit(b, o);
+    hx_diag_finish(b);
+    /* without a density <rho> = 1 and the dispersion is the volume-weighted one of v */
+    double var = 0;
+    for (int c = 0; c < 3; c++) var += d->rms[c] * d->rms[c] - d->mean[c] * d->mean[c];
+    m->density_mean = d->has_state ? d->rho_mean : 1.0;
+    m->sigma_3d = d->has_state ? d->sigma_3d : sqrt(fmax(var, 0.0));
+    m->sound_speed = d->sound_speed;
+    m->gamma = o->gamma > 0 ? o->gamma : s->gamma > 0 ? s->gamma : 1.0;
+    m->unit_gauss = s->unit_magnetic_gauss;
+    m->unit_velocity_cm_s = s->unit_velocity_cm_s;
+    hx_diag_set_magnetic(m);
+    if (hx_cube_has_field(cube, HX_SLOT_MAGNETIC_FACE)) HX_TRY(face_divergence(W, cube, m));
+fail:
+    return st;
+}
+
 hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm comm, hx_diag *d, hx_request *q, int *found)
 {
     hx_status st = HX_OK;
@@ -444,11 +606,13 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     HX_TRY(hx_error_agree(comm, hx_cube_read_state(cube, &state)));
     /* the decomposition weights by sqrt(rho) when asked (--density) or when the file's mix was
      * asked for sqrt(rho) v; the state needs only a density */
-    W.weight = o->cube.density != NULL || state.mass_weight;
-    if (W.weight && !hx_cube_has_density(cube)) /* the same verdict on every rank: no agreement needed */
+    int weight = o->cube.density != NULL || state.mass_weight;
+    if (weight && !hx_cube_has_density(cube)) /* the same verdict on every rank: no agreement needed */
         HX_FAIL(HX_ERR_ARG, "%s records a mix of sqrt(rho) v (mix_weight = mass) but holds no density dataset; "
                             "name one with --density", o->cube.file);
     if (hx_cube_has_density(cube)) hx_cube_request_state(&state, q);
+    if (hx_cube_has_field(cube, HX_SLOT_MAGNETIC))
+        hx_cube_request_magnetic(&state, hx_cube_field_single(cube, HX_SLOT_MAGNETIC), q);
     W.cloud = state.cloud;
     memcpy(W.center, state.center, sizeof W.center);
     W.radius = state.radius;
@@ -457,40 +621,19 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     for (int a = 0; a < 3; a++) d->cells[a] = g->n[a], d->box[a] = g->box[a];
     d->ranks = g->size;
     d->remove_scale = o->remove_scale;
-    d->mass_weighted = W.weight;
+    d->mass_weighted = weight;
     d->sound_speed = o->sound_speed > 0 ? o->sound_speed : state.sound_speed > 0 ? state.sound_speed : NAN;
     d->gravity = o->gravity > 0 ? o->gravity : state.G > 0 ? state.G : NAN;
     HX_TRY(hx_error_agree(comm, hx_diag_shells(d, shells_needed(g))));
     hx_log_say(log, HX_LOG_INFO, "inspect %s: %tdx%tdx%td cells on %d rank%s", o->cube.file, g->n[0], g->n[1], g->n[2],
                g->size, g->size > 1 ? "s" : "");
     if (W.rho) HX_TRY(read_density(&W, cube));
-    int64_t stride = 2 * g->nxc, ntot = hx_grid_cells(g);
-    for (int c = 0; c < 3; c++) {
-        HX_TRY(load(&W, cube, c));
-        if (W.ell <= 0) HX_TRY(hx_diag_moments(d, c, W.a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm));
-        fftw_execute(W.r2c);
-        accumulate(&W, c, d);
-        if (W.ell > 0) {
-            fftw_execute(W.c2r);
-            HX_TRY(hx_diag_moments(d, c, W.a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm));
-        }
-        hx_log_say(log, HX_LOG_INFO, "component %c analysed", "xyz"[c]);
-    }
-    accumulate_div(&W, d);
-    if (W.rho) HX_TRY(state_finish(&W, d));
-    int ns = d->nshell;
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_e, ns, MPI_DOUBLE, MPI_SUM, comm));
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_comp, ns, MPI_DOUBLE, MPI_SUM, comm));
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_modes, ns, MPI_DOUBLE, MPI_SUM, comm));
-    double sums[2] = {W.grad2, W.div2};
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, sums, 2, MPI_DOUBLE, MPI_SUM, comm));
-    d->div_rms = sqrt(sums[1]);
-    d->vort_rms = sqrt(fmax(sums[0] - sums[1], 0.0));
-    d->div_ratio = sums[0] > 0 ? d->div_rms / sqrt(sums[0]) : NAN;
-    d->vort_ratio = sums[0] > 0 ? d->vort_rms / sqrt(sums[0]) : NAN;
+    W.f = (field_t){HX_SLOT_VELOCITY, W.rho != NULL, weight, o->remove_scale, o->slices, "velocity"};
+    HX_TRY(analyse_field(&W, cube, log, d));
     default_fit(d, o, q, *found);
     hx_diag_finish(d);
-    if (W.slices) HX_TRY(make_slices(&W, d));
+    if (W.f.slices) HX_TRY(make_slices(&W, d));
+    if (hx_cube_has_field(cube, HX_SLOT_MAGNETIC)) HX_TRY(analyse_magnetic(&W, cube, o, &state, log, d));
     HX_TRY(hx_log_peak_rss(comm, &d->peak_rss));
     d->seconds = MPI_Wtime() - t0;
     hx_log_say(log, HX_LOG_INFO, "analysis done in %.2f s, peak %.1f MiB per rank", d->seconds,

@@ -181,7 +181,7 @@ static hx_status write_state(hx_io *io, const hx_recipe *r, const hx_cloud *cl, 
     HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_G, &u->G, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "temperature_K", &r->temperature.value, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "mu", &r->mu, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "gamma", &r->gamma, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_GAMMA, &r->gamma, 0));
     HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_SOUND_SPEED, &u->sound_speed, 0));
     HX_TRY(hx_io_attr_doubles(io, G, "sound_speed_cm_s", &cs_cgs, 0));
     HX_TRY(hx_io_attr_string(io, G, HX_STATE_AMPLITUDE_BY, hx_amplitude_by_name(r->amplitude_by)));
@@ -204,15 +204,15 @@ static hx_status write_state(hx_io *io, const hx_recipe *r, const hx_cloud *cl, 
     HX_TRY(hx_io_attr_doubles(io, G, "angular_momentum_relative", &res->angular_rel, 0));
     int64_t flags[3] = {r->window, r->remove_bulk, r->remove_rotation};
     HX_TRY(hx_io_attr_int64s(io, G, HX_STATE_FLAGS, flags, 3));
-    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_b0", res->b0, 3));
-    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_random_rms", &res->b_random_rms, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_rms", &res->b_rms, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "magnetic_face_rms", &res->b_face_rms, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "beta", &res->beta, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "alfven_mach", &res->alfven_mach, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "beta_asked", r->magnetic_by == HX_MAGNETIC_BETA ? &r->beta : &nan, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "alfven_mach_asked", r->magnetic_by == HX_MAGNETIC_ALFVEN ? &r->alfven_mach : &nan, 0));
-    HX_TRY(hx_io_attr_doubles(io, G, "unit_magnetic_gauss", &u->magnetic, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MAGNETIC_B0, res->b0, 3));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MAGNETIC_RANDOM_RMS, &res->b_random_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MAGNETIC_RMS, &res->b_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_MAGNETIC_FACE_RMS, &res->b_face_rms, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_BETA, &res->beta, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_ALFVEN_MACH, &res->alfven_mach, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_BETA_ASKED, r->magnetic_by == HX_MAGNETIC_BETA ? &r->beta : &nan, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_ALFVEN_MACH_ASKED, r->magnetic_by == HX_MAGNETIC_ALFVEN ? &r->alfven_mach : &nan, 0));
+    HX_TRY(hx_io_attr_doubles(io, G, HX_STATE_UNIT_MAGNETIC, &u->magnetic, 0));
     HX_TRY(hx_io_attr_string(io, G, "magnetic_face_convention",
                              "magnetic_face_c[k][j][i] lies on the low-c face of cell (i, j, k): at x_c = i dx_c, the "
                              "other two coordinates at cell centres; it is the discrete curl of a vector potential on "

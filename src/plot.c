@@ -1,7 +1,9 @@
 /* plot.c — the one-page report of a cube's summary: key numbers, shell spectra, compressive
- * share per shell, one-point PDFs, mid-plane slices and the state in a density, drawn with cairo on a fixed logical
- * page of 1800x1300 units that is scaled onto the PNG or PDF surface. The slice colour maps
- * are built here from a few control points in the OKLab perceptual colour space. */
+ * share per shell, one-point PDFs, mid-plane slices, the state in a density and, below the
+ * slices, a row for the magnetic field (its energy spectrum beside the kinetic one and its key
+ * numbers), drawn with cairo on a fixed logical page of 1800x1300 units (1800x1780 with the
+ * magnetic row) that is scaled onto the PNG or PDF surface. The slice colour maps are built
+ * here from a few control points in the OKLab perceptual colour space. */
 #include "helmix/plot.h"
 
 #include <cairo-pdf.h>
@@ -19,6 +21,7 @@
 /* ---- page geometry (logical units; one unit is one PNG pixel) ---------------------------- */
 
 enum { PAGE_W = 1800, PAGE_H = 1300, MARGIN = 60 };
+enum { MAG_ROW_H = 480 }; /* the magnetic row added below the slices */
 #define PDF_W 842.0 /* A4 landscape width in points; the height keeps the page's aspect */
 
 /* Shells below this share of the peak hold round-off only: a single-precision cube carries
@@ -543,6 +546,191 @@ static hx_status slices_row(cairo_t *cr, const hx_diag *d, double top, double de
     return HX_OK;
 }
 
+/* ---- the magnetic field ---------------------------------------------------------------- */
+
+static const rgb MAGNETIC = {0.72, 0.16, 0.47}; /* a hue no other series of the page uses */
+
+static int page_height(const hx_diag *d) { return d->magnetic ? PAGE_H + MAG_ROW_H : PAGE_H; }
+
+/* k axis over shells 1 .. last, as shell_range builds it. */
+static axis k_axis(int last)
+{
+    double span = log10(fmax(last, 1)), pad = span > 0 ? 0.03 * span : 0.3;
+    return (axis){-pad, span + pad, 1, 0, 0, 0, "k [2π/L]"};
+}
+
+/* Decade-rounded energy range of the series shown (shells 1 .. last above each floor), at most
+ * twelve decades below the top so a far weaker kinetic or magnetic spectrum cannot flatten the
+ * other. */
+static axis magnetic_energy_axis(const double *const *e, const double *floor_e, int n, int last)
+{
+    double lo = INFINITY, hi = 0;
+    for (int a = 0; a < n; a++)
+        for (int s = 1; s <= last && e[a]; s++)
+            if (e[a][s] > floor_e[a] && isfinite(e[a][s])) lo = fmin(lo, e[a][s]), hi = fmax(hi, e[a][s]);
+    if (!(hi > 0)) lo = hi = 1;
+    double elo = floor(log10(lo)), ehi = ceil(log10(hi));
+    if (ehi - elo < 1) elo -= 1;
+    elo = fmax(elo, ehi - 12);
+    return (axis){elo, ehi, 1, 1, 0, 0, "E(k) [code units]"};
+}
+
+/* E_B(k) with its fit band and slope, its curl-free part when it holds more than round-off,
+ * and the velocity's E(k) in grey for comparison on the same axes. */
+static void magnetic_spectrum_panel(cairo_t *cr, const hx_diag *d, frame f)
+{
+    const hx_diag *b = &d->magnetic->field;
+    const style sty[3] = {{MAGNETIC, 2.6, {0, 0}, 3.0}, {MAGNETIC, 1.8, {7, 5}, 0}, {NORMAL, 2.4, {0, 0}, 0}};
+    hx_draw_panel_title(cr, &f, "Magnetic energy spectrum");
+    shells rb = shell_range(b), rv = shell_range(d);
+    if (!rb.ok) {
+        hx_draw_placeholder(cr, f.x, f.y, f.w, f.h, rb.emax == 0 && b->shell_e ? "uniform field: no spectrum" : "not computed");
+        return;
+    }
+    int comp = 0;
+    for (int s = 1; s <= rb.last; s++) comp |= b->shell_comp[s] > rb.floor;
+    int last = rv.ok && rv.last > rb.last ? rv.last : rb.last;
+    const double *e[3] = {b->shell_e, comp ? b->shell_comp : NULL, rv.ok ? d->shell_e : NULL};
+    const double fl[3] = {rb.floor, rb.floor, rv.floor};
+    f.ax = k_axis(last);
+    f.ay = magnetic_energy_axis(e, fl, 3, last);
+    if (fit_range_ok(b)) fit_band(cr, &f, b);
+    hx_draw_x_axis(cr, &f);
+    hx_draw_y_axis(cr, &f);
+    int big = last > 80;
+    entry en[5];
+    char notes[2][96], x[32], y[32];
+    int n = 0, nn = 0;
+    for (int i = 2; i >= 0; i--) { /* the magnetic spectrum last, on top */
+        if (!e[i]) continue;
+        series sr = {e[i], NULL, fl[i], 0, 1, 1, (i == 2 ? rv.last : rb.last) + 1};
+        style st = sty[i];
+        st.marker = big ? 0 : st.marker;
+        hx_draw_draw_series(cr, &f, &sr, &st);
+    }
+    en[n++] = (entry){sty[0], 0, "magnetic E_B(k)"};
+    if (comp) en[n++] = (entry){sty[1], 0, "its curl-free part"};
+    if (rv.ok) { /* the energy spectrum of what was decomposed: of √ρ v when mass-weighted */
+        en[n] = (entry){sty[2], 0, ""};
+        snprintf(en[n++].label, sizeof en[0].label, "%s", d->mass_weighted ? "kinetic E(k) of √ρ v" : "kinetic E(k)");
+    }
+    if (fit_range_ok(b)) {
+        en[n] = (entry){{BAND, 0, {0, 0}, 0}, 1, ""};
+        snprintf(en[n++].label, sizeof en[0].label, "fit range k = %s – %s", hx_draw_num(x, sizeof x, "%g", b->fit_kmin),
+                 hx_draw_num(y, sizeof y, "%g", b->fit_kmax));
+    }
+    if (isfinite(b->slope))
+        snprintf(notes[nn++], sizeof notes[0], "fitted slope %s ± %s", hx_draw_num(x, sizeof x, "%.3f", b->slope),
+                 hx_draw_num(y, sizeof y, "%.3f", b->slope_err));
+    else snprintf(notes[nn++], sizeof notes[0], "fitted slope n/a");
+    snprintf(notes[nn++], sizeof notes[0], "(E_B ∝ k^{−slope}; ⟨B⟩ left out)");
+    hx_draw_legend(cr, f.x + f.w + LEGEND_GAP, f.y, en, n, notes, nn);
+}
+
+/* A field strength in gauss with an SI prefix, or "" when the unit is unknown. */
+static void gauss_text(char *buf, size_t len, double v_code, double unit)
+{
+    static const struct { double scale; const char *name; } pre[] = {{1, "G"}, {1e-3, "mG"}, {1e-6, "µG"}, {1e-9, "nG"}};
+    char a[32];
+    buf[0] = '\0';
+    if (!isfinite(unit) || !isfinite(v_code)) return;
+    double v = v_code * unit;
+    int i = 0;
+    while (i < 3 && v != 0 && fabs(v) < pre[i].scale) i++; /* zero stays in gauss */
+    snprintf(buf, len, "%s %s", hx_draw_num(a, sizeof a, "%#.4g", v / pre[i].scale), pre[i].name);
+}
+
+/* A number that may be infinite (beta and M_A without a mean field). */
+static const char *num_inf(char *buf, size_t len, const char *fmt, double v)
+{
+    if (isinf(v)) {
+        snprintf(buf, len, "∞");
+        return buf;
+    }
+    return hx_draw_num(buf, len, fmt, v);
+}
+
+/* The key numbers of the magnetic field: a box of label / value rows. */
+static void magnetic_numbers(cairo_t *cr, const hx_diag *d, double x, double y, double w)
+{
+    const hx_magnetic *m = d->magnetic;
+    const hx_diag *b = &m->field;
+    enum { NROW = 11, ROW = 28 };
+    char val[NROW][96], g[48], a[32], c[32], e[32];
+    const char *label[NROW] = {"rms |B|", "mean field ⟨B⟩", "|⟨B⟩|", "random part, rms", "Alfvén speed of ⟨B⟩",
+                               "plasma β of ⟨B⟩", "Alfvén Mach number", "slope of E_B(k)", "div B, spectral",
+                               "div B, faces", "face field, rms |B|"};
+    const double ug = m->unit_gauss;
+    int n = 0;
+#define HX_WITH_GAUSS(v)                                                                      \
+    do {                                                                                      \
+        gauss_text(g, sizeof g, (v), ug);                                                     \
+        snprintf(val[n], sizeof val[0], "%s%s%s%s", hx_draw_num(a, sizeof a, "%#.4g", (v)),     \
+                 g[0] ? " (" : "", g, g[0] ? ")" : "");                                        \
+        n++;                                                                                  \
+    } while (0)
+    HX_WITH_GAUSS(b->rms3);
+    snprintf(val[n++], sizeof val[0], "(%s, %s, %s)", hx_draw_num(a, sizeof a, "%.3g", b->mean[0]),
+             hx_draw_num(c, sizeof c, "%.3g", b->mean[1]), hx_draw_num(e, sizeof e, "%.3g", b->mean[2]));
+    HX_WITH_GAUSS(m->mean_abs);
+    HX_WITH_GAUSS(m->random_rms);
+#undef HX_WITH_GAUSS
+    hx_draw_num(val[n], sizeof val[0], "%#.4g", m->v_alfven);
+    if (isfinite(m->unit_velocity_cm_s) && isfinite(m->v_alfven))
+        snprintf(val[n] + strlen(val[n]), sizeof val[0] - strlen(val[n]), " (%s km/s)",
+                 hx_draw_num(a, sizeof a, "%#.4g", m->v_alfven * m->unit_velocity_cm_s / 1e5));
+    n++;
+    num_inf(val[n++], sizeof val[0], "%#.4g", m->beta);
+    num_inf(val[n++], sizeof val[0], "%#.4g", m->alfven_mach);
+    if (isfinite(b->slope))
+        snprintf(val[n++], sizeof val[0], "%s ± %s", hx_draw_num(a, sizeof a, "%.2f", b->slope),
+                 hx_draw_num(c, sizeof c, "%.2f", b->slope_err));
+    else snprintf(val[n++], sizeof val[0], "n/a");
+    hx_draw_num(val[n++], sizeof val[0], "%.2g", m->div_spectral);
+    if (m->has_face) {
+        hx_draw_num(val[n++], sizeof val[0], "%.2g", m->face_div);
+        hx_draw_num(val[n++], sizeof val[0], "%#.4g", m->face_rms);
+    } else {
+        snprintf(val[n++], sizeof val[0], "no face-centred field");
+        val[n++][0] = '\0';
+    }
+    int rows = m->has_face ? NROW : NROW - 1;
+    double h = rows * ROW + 2 * LEG_PAD, cy = y + LEG_PAD + ROW / 2.0;
+    hx_draw_legend_box(cr, x, y, w, h);
+    hx_draw_font(cr, FS_SMALL + 1, 0);
+    for (int i = 0; i < rows; i++, cy += ROW) {
+        hx_draw_set_rgb(cr, MUTED);
+        hx_draw_text(cr, label[i], x + LEG_PAD, cy, 0, 0.5);
+        hx_draw_set_rgb(cr, INK);
+        hx_draw_text(cr, val[i], x + w - LEG_PAD, cy, 1, 0.5);
+    }
+}
+
+/* The row of the magnetic field below the slices: title with the unit, spectrum, numbers. */
+static void magnetic_row(cairo_t *cr, const hx_diag *d, double top)
+{
+    const hx_magnetic *m = d->magnetic;
+    char sub[160], a[32];
+    if (!m) return;
+    hx_draw_font(cr, FS_PANEL, 1);
+    hx_draw_set_rgb(cr, INK);
+    hx_draw_text(cr, "Magnetic field", MARGIN, top, 0, 0);
+    double wt = hx_draw_text_width(cr, "Magnetic field");
+    if (isfinite(m->unit_gauss))
+        snprintf(sub, sizeof sub, "cell-centred B in code units (1 code unit = %s G, v(A) = B/√ρ)%s",
+                 hx_draw_num(a, sizeof a, "%.4g", m->unit_gauss), m->has_face ? " · face-centred B beside it" : "");
+    else snprintf(sub, sizeof sub, "cell-centred B in code units (v(A) = B/√ρ; the file records no units)%s",
+                  m->has_face ? " · face-centred B beside it" : "");
+    hx_draw_font(cr, FS_SUB, 0);
+    hx_draw_set_rgb(cr, MUTED);
+    hx_draw_text(cr, sub, MARGIN + wt + 16, top, 0, 0);
+    magnetic_spectrum_panel(cr, d, (frame){.x = 150, .y = top + 80, .w = 760, .h = 260});
+    hx_draw_font(cr, FS_PANEL, 1);
+    hx_draw_set_rgb(cr, INK);
+    hx_draw_text(cr, "Key numbers", 1290, top + 64, 0, 0);
+    magnetic_numbers(cr, d, 1290, top + 80, 450);
+}
+
 /* ---- header ---------------------------------------------------------------------------- */
 
 typedef struct card { char label[48], value[96], unit[64]; } card;
@@ -653,7 +841,9 @@ static hx_status draw_page(cairo_t *cr, const hx_diag *d, const hx_plot_request 
     share_panel(cr, d, &r, req ? req->fraction : NAN, share);
     state_box(cr, d, spec.x + spec.w + LEGEND_GAP, share.y - 44);
     pdf_panel(cr, d, pdf);
-    return slices_row(cr, d, 898, dev);
+    hx_status st = slices_row(cr, d, 898, dev);
+    if (st == HX_OK) magnetic_row(cr, d, PAGE_H + 36);
+    return st;
 }
 
 static int ends_with(const char *s, const char *ext)
@@ -673,11 +863,11 @@ static hx_status check_cairo(cairo_status_t cs, const char *what, const char *pa
     return hx_error_set(HX_ERR_IO, "plot '%s': %s failed: %s", path, what, cairo_status_to_string(cs));
 }
 
-static cairo_surface_t *make_surface(int pdf, const char *path, const char *title)
+static cairo_surface_t *make_surface(int pdf, const char *path, const char *title, int height)
 {
-    if (!pdf) return cairo_image_surface_create(CAIRO_FORMAT_RGB24, PAGE_W, PAGE_H);
+    if (!pdf) return cairo_image_surface_create(CAIRO_FORMAT_RGB24, PAGE_W, height);
     double s = PDF_W / PAGE_W;
-    cairo_surface_t *surf = cairo_pdf_surface_create(path, PAGE_W * s, PAGE_H * s);
+    cairo_surface_t *surf = cairo_pdf_surface_create(path, PAGE_W * s, height * s);
     if (cairo_surface_status(surf) == CAIRO_STATUS_SUCCESS) {
         cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_CREATOR, "helmix " HX_VERSION);
         cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_TITLE, title);
@@ -710,7 +900,7 @@ hx_status hx_plot_report(const hx_diag *d, const hx_plot_request *req, const cha
     if (!pdf && !ends_with(path, ".png"))
         return hx_error_set(HX_ERR_ARG, "plot '%s': unknown format; the file name must end in .png or .pdf", path);
     hx_draw_clean_line(title, sizeof title, req && req->title ? req->title : "velocity cube");
-    cairo_surface_t *surf = make_surface(pdf, path, title);
+    cairo_surface_t *surf = make_surface(pdf, path, title, page_height(d));
     hx_status st = check_cairo(cairo_surface_status(surf), pdf ? "creating the PDF" : "creating the image", path);
     int created = st == HX_OK;
     if (created) st = render(surf, pdf, d, req, title, path);

@@ -1,7 +1,7 @@
 /* report.c — the cube's summary as a table on a stream, as JSON (cJSON) and as a per-shell
- * CSV file, with the state of the velocity in a density when the cube has one. Every number
- * printed is a field of hx_diag; nothing is computed here except the per-shell share
- * shell_comp/shell_e. */
+ * CSV file, with the state of the velocity in a density and the magnetic field when the cube
+ * has them. Every number printed is a field of hx_diag; nothing is computed here except the
+ * per-shell share shell_comp/shell_e and the conversions of code units to gauss and cm/s. */
 #include "helmix/report.h"
 
 #include <cjson/cJSON.h>
@@ -33,6 +33,56 @@ static void print_state(FILE *out, const hx_diag *d)
     else fprintf(out, "    virial parameter: no G known (give --gravity)\n");
     fprintf(out, "    net momentum (%.6g, %.6g, %.6g), |P| / (M vrms) = %.3g\n", d->momentum[0], d->momentum[1],
             d->momentum[2], d->momentum_rel);
+}
+
+/* The magnetic field: rms and mean (in gauss with units), beta, Alfven speed and Mach number
+ * of the mean field, energy, slope, divergences and the magnetic energy per shell. */
+static void print_magnetic(FILE *out, const hx_diag *d)
+{
+    const hx_magnetic *m = d->magnetic;
+    if (!m) return;
+    const hx_diag *b = &m->field;
+    const double ug = m->unit_gauss, uv = m->unit_velocity_cm_s;
+    fprintf(out, "\n  magnetic field (cell-centred, code magnetic units sqrt(4 pi rho_u) v_u%s):\n",
+            isfinite(ug) ? "" : "; the file records no units");
+    if (isfinite(ug)) fprintf(out, "    one code magnetic unit is %.7g G\n", ug);
+    fprintf(out, "    rms |B| %.7g, mean field (%.7g, %.7g, %.7g), |<B>| %.7g\n", b->rms3, b->mean[0], b->mean[1],
+            b->mean[2], m->mean_abs);
+    if (isfinite(ug))
+        fprintf(out, "    in gauss: rms |B| %.6g G, mean field (%.6g, %.6g, %.6g) G, |<B>| %.6g G\n", b->rms3 * ug,
+                b->mean[0] * ug, b->mean[1] * ug, b->mean[2] * ug, m->mean_abs * ug);
+    fprintf(out, "    rms of the random part B - <B> %.7g%s\n", m->random_rms, m->mean_abs > 0 ? "" : " (no mean field)");
+    if (isfinite(ug)) fprintf(out, "    in gauss: %.6g G\n", m->random_rms * ug);
+    fprintf(out, "    Alfven speed of the mean field |<B>| / sqrt(<rho>) %.7g (<rho> = %.7g%s)", m->v_alfven, m->density_mean,
+            d->has_state ? "" : ", no density: 1");
+    if (isfinite(uv)) fprintf(out, ", %.7g km/s", m->v_alfven * uv / 1e5);
+    fprintf(out, "\n");
+    if (isfinite(m->beta))
+        fprintf(out, "    plasma beta 2 <rho> c_s^2 / gamma / |<B>|^2 %.7g (c_s = %.7g, gamma = %g; NRL Plasma Formulary)\n",
+                m->beta, m->sound_speed, m->gamma);
+    else if (isinf(m->beta)) fprintf(out, "    plasma beta: infinite (no mean field)\n");
+    else fprintf(out, "    plasma beta: no sound speed known (give --sound-speed)\n");
+    fprintf(out, "    Alfven Mach number sigma_3D / v_A %.7g (sigma_3D = %.7g, %s)\n", m->alfven_mach, m->sigma_3d,
+            d->has_state ? "mass-weighted over the region" : "volume-weighted over the box");
+    fprintf(out, "    magnetic energy (k != 0) 1/2 sum |B_hat|^2 %.7g; spectral slope over shells [%g, %g]: %.4f +- %.4f\n",
+            b->e_total, b->fit_kmin, b->fit_kmax, b->slope, b->slope_err);
+    fprintf(out, "    divergence (spectral) rms(k.B_hat) / rms(|k| |B_hat|) %.3g\n", m->div_spectral);
+    if (m->has_face)
+        fprintf(out, "    face-centred: rms |B| %.7g; discrete divergence max %.3g, over rms |B| / min dx: %.3g\n",
+                m->face_rms, m->face_div_max, m->face_div);
+    fprintf(out, "\n  %5s %10s %14s %14s\n", "k", "modes", "E_B(k)", "E_B,comp(k)");
+    double emax = 0;
+    int quiet = 0;
+    for (int s = 1; s < b->nshell; s++) emax = fmax(emax, b->shell_e[s]);
+    for (int s = 1; s < b->nshell; s++) {
+        if (b->shell_modes[s] <= 0) continue;
+        if (!(b->shell_e[s] > 1e-12 * emax)) {
+            quiet++;
+            continue;
+        }
+        fprintf(out, "  %5d %10.0f %14.6e %14.6e\n", s, b->shell_modes[s], b->shell_e[s], b->shell_comp[s]);
+    }
+    if (quiet) fprintf(out, "  (%d more shells below 1e-12 of the largest: see --json)\n", quiet);
 }
 
 void hx_report_print(FILE *out, const hx_diag *d, const char *source)
@@ -70,6 +120,7 @@ void hx_report_print(FILE *out, const hx_diag *d, const char *source)
                 d->shell_sol[s], share);
     }
     if (quiet) fprintf(out, "  (%d more shells below 1e-12 of the largest: see --csv or --json)\n", quiet);
+    print_magnetic(out, d);
 }
 
 static cJSON *array(const double *v, int n)
@@ -148,6 +199,73 @@ static cJSON *state(const hx_diag *d)
     return o;
 }
 
+/* Three numbers times a unit, or null when the unit is unknown. */
+static cJSON *scaled(const double *v, int n, double unit)
+{
+    double w[3];
+    if (!isfinite(unit)) return cJSON_CreateNull();
+    for (int i = 0; i < n; i++) w[i] = v[i] * unit;
+    return array(w, n);
+}
+
+/* The magnetic field as JSON (NAN and infinity print as null), or null without one. */
+static cJSON *magnetic(const hx_diag *d)
+{
+    const hx_magnetic *m = d->magnetic;
+    if (!m) return cJSON_CreateNull();
+    const hx_diag *b = &m->field;
+    double fit[2] = {b->fit_kmin, b->fit_kmax}, ug = m->unit_gauss;
+    cJSON *o = cJSON_CreateObject();
+    cJSON_AddBoolToObject(o, "single_precision", m->single);
+    cJSON_AddItemToObject(o, "mean", array(b->mean, 3));
+    cJSON_AddNumberToObject(o, "mean_magnitude", m->mean_abs);
+    cJSON_AddItemToObject(o, "rms", array(b->rms, 3));
+    cJSON_AddNumberToObject(o, "rms_3d", b->rms3);
+    cJSON_AddNumberToObject(o, "random_rms", m->random_rms);
+    cJSON_AddItemToObject(o, "skewness", array(b->skew, 3));
+    cJSON_AddItemToObject(o, "excess_kurtosis", array(b->kurt, 3));
+    cJSON_AddNumberToObject(o, "unit_gauss", ug);
+    cJSON *gs = isfinite(ug) ? cJSON_CreateObject() : cJSON_CreateNull();
+    if (isfinite(ug)) {
+        cJSON_AddItemToObject(gs, "mean", scaled(b->mean, 3, ug));
+        cJSON_AddNumberToObject(gs, "mean_magnitude", m->mean_abs * ug);
+        cJSON_AddNumberToObject(gs, "rms_3d", b->rms3 * ug);
+        cJSON_AddNumberToObject(gs, "random_rms", m->random_rms * ug);
+    }
+    cJSON_AddItemToObject(o, "gauss", gs);
+    cJSON_AddNumberToObject(o, "density_mean", m->density_mean);
+    cJSON_AddNumberToObject(o, "sound_speed", m->sound_speed);
+    cJSON_AddNumberToObject(o, "gamma", m->gamma);
+    cJSON_AddNumberToObject(o, "sigma_3d", m->sigma_3d);
+    cJSON_AddNumberToObject(o, "alfven_speed", m->v_alfven);
+    cJSON_AddNumberToObject(o, "unit_velocity_cm_s", m->unit_velocity_cm_s);
+    cJSON_AddNumberToObject(o, "alfven_speed_cm_s", m->v_alfven * m->unit_velocity_cm_s);
+    cJSON_AddNumberToObject(o, "beta", m->beta);
+    cJSON_AddNumberToObject(o, "alfven_mach", m->alfven_mach);
+    cJSON *e = cJSON_AddObjectToObject(o, "energy");
+    cJSON_AddNumberToObject(e, "total", b->e_total);
+    cJSON_AddNumberToObject(e, "compressive", b->e_comp);
+    cJSON_AddNumberToObject(o, "divergence_ratio", m->div_spectral);
+    cJSON *sl = cJSON_AddObjectToObject(o, "slope");
+    cJSON_AddItemToObject(sl, "fit_range", array(fit, 2));
+    cJSON_AddNumberToObject(sl, "value", b->slope);
+    cJSON_AddNumberToObject(sl, "stderr", b->slope_err);
+    cJSON *sh = shells(b);
+    if (sh) { /* E_B(k) and its curl-free part, which a magnetic field should not have */
+        cJSON_DeleteItemFromObject(sh, "solenoidal");
+        cJSON_DeleteItemFromObject(sh, "compressive_fraction");
+    }
+    cJSON_AddItemToObject(o, "shells", sh);
+    cJSON *f = m->has_face ? cJSON_CreateObject() : cJSON_CreateNull();
+    if (m->has_face) {
+        cJSON_AddNumberToObject(f, "rms_3d", m->face_rms);
+        cJSON_AddNumberToObject(f, "divergence_max", m->face_div_max);
+        cJSON_AddNumberToObject(f, "divergence_ratio", m->face_div);
+    }
+    cJSON_AddItemToObject(o, "face", f);
+    return o;
+}
+
 hx_status hx_report_json(const char *path, const hx_diag *d, const hx_verdict *v, const char *source)
 {
     cJSON *root = cJSON_CreateObject();
@@ -184,6 +302,7 @@ hx_status hx_report_json(const char *path, const hx_diag *d, const hx_verdict *v
     cJSON_AddNumberToObject(sl, "value", d->slope);
     cJSON_AddNumberToObject(sl, "stderr", d->slope_err);
     cJSON_AddItemToObject(root, "state", state(d));
+    cJSON_AddItemToObject(root, "magnetic", magnetic(d));
     cJSON_AddItemToObject(root, "shells", shells(d));
     cJSON *pdf = cJSON_AddObjectToObject(root, "pdf");
     cJSON_AddItemToObject(pdf, "edges", array(edges, HX_DIAG_BINS + 1));

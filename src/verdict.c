@@ -1,7 +1,7 @@
 /* verdict.c — requested versus measured, line by line, with the tolerance each line is
- * judged with. Tolerances: exact quantities (rms, shares, the state in a density) are held to
- * what the stored precision allows; the slope of a Gaussian draw scatters, so it gets a
- * statistical allowance. */
+ * judged with. Tolerances: exact quantities (rms, shares, the state in a density, the
+ * magnetic field and its divergence) are held to what the stored precision allows; the slope
+ * of a Gaussian draw scatters, so it gets a statistical allowance. */
 #include "helmix/verdict.h"
 
 #include <math.h>
@@ -23,6 +23,9 @@ void hx_request_defaults(hx_request *q, int single, int fixed_amplitudes)
     /* the state is a sum over the stored values, so it keeps the digits of the data as well */
     q->tol_state = single ? 1e-5 : 1e-9;
     q->tol_momentum = single ? 1e-5 : 1e-9;
+    q->b0[0] = q->b0[1] = q->b0[2] = q->b_random_rms = q->beta = q->alfven_mach = NAN;
+    q->tol_magnetic = single ? 1e-5 : 1e-9;
+    q->tol_divergence = single ? 1e-5 : 1e-12;
     /* Without a recorded expectation: a compensated least-squares slope over >= 10 shells of a
      * Gaussian draw scatters by several hundredths; fixed amplitudes scatter less. */
     q->tol_slope = fixed_amplitudes ? 0.05 : 0.15;
@@ -104,6 +107,28 @@ static void judge_state(const hx_request *q, const hx_diag *d, hx_verdict *v)
             fabs(d->momentum_rel - q->momentum_rel) <= q->tol_momentum);
 }
 
+/* The lines of the magnetic field; nothing without a recorded one or without its analysis. */
+static void judge_magnetic(const hx_request *q, const hx_diag *d, hx_verdict *v)
+{
+    const hx_magnetic *m = d->magnetic;
+    if (!q->has_magnetic || !m) return;
+    const double t = q->tol_magnetic, b0 = sqrt(q->b0[0] * q->b0[0] + q->b0[1] * q->b0[1] + q->b0[2] * q->b0[2]);
+    /* the mean field's error is the round-off of the whole field: scaled by |B0|, or by the
+     * rms of B when there is no uniform field */
+    const double tmean = t * (b0 > 0 ? b0 : m->field.rms3);
+    const char *name[3] = {"mean field B_x", "mean field B_y", "mean field B_z"};
+    for (int c = 0; c < 3; c++)
+        add(v, name[c], q->b0[c], m->field.mean[c], tmean, fabs(m->field.mean[c] - q->b0[c]) <= tmean);
+    const double trand = t * (q->b_random_rms > 0 ? q->b_random_rms : b0 > 0 ? b0 : m->field.rms3);
+    add(v, "rms of the random field", q->b_random_rms, m->random_rms, trand, fabs(m->random_rms - q->b_random_rms) <= trand);
+    if (isfinite(q->beta)) add_state(v, "plasma beta", q->asked_beta, q->beta, m->beta, t * fabs(q->beta));
+    if (isfinite(q->alfven_mach))
+        add_state(v, "Alfven Mach number", q->asked_alfven_mach, q->alfven_mach, m->alfven_mach, t * fabs(q->alfven_mach));
+    add(v, "divergence of B (spectral)", 0.0, m->div_spectral, q->tol_divergence, m->div_spectral <= q->tol_divergence);
+    if (m->has_face)
+        add(v, "divergence of B (faces)", 0.0, m->face_div, q->tol_divergence, m->face_div <= q->tol_divergence);
+}
+
 void hx_verdict_judge(const hx_request *q, const hx_diag *d, hx_verdict *v)
 {
     memset(v, 0, sizeof *v);
@@ -141,6 +166,7 @@ void hx_verdict_judge(const hx_request *q, const hx_diag *d, hx_verdict *v)
     if (q->has_slope && isfinite(q->slope_recipe) && q->slope_recipe != q->slope)
         add(v, "slope asked in the recipe", q->slope_recipe, d->slope, NAN, 1);
     judge_state(q, d, v);
+    judge_magnetic(q, d, v);
 }
 
 void hx_verdict_print(const hx_verdict *v, FILE *out)

@@ -25,7 +25,21 @@
  *          dispersion about the region's mass-weighted mean (common practice)
  *   mach = sigma_3d / sound_speed; virial = 5 (sigma_3d^2 / 3) radius / (gravity M_R)
  *          (Bertoldi & McKee 1992, ApJ 395, 140); NAN when the sound speed or G is unknown
- *   momentum_c = Σ rho v_c dV; momentum_rel = |momentum| / (mass vrms) */
+ *   momentum_c = Σ rho v_c dV; momentum_rel = |momentum| / (mass vrms)
+ *
+ * The magnetic field (hx_magnetic; code magnetic unit sqrt(4 pi rho_u) v_u gauss, so that in
+ * code units v_A = B / sqrt(rho) and P_B = B^2 / 2 — Gaussian units, NRL Plasma Formulary):
+ *   field: the cell-centred B analysed as a vector field with every definition above (mean,
+ *          rms, rms3 = <|B|^2>^(1/2), shells: E_B(k) = ½ Σ_shell |B̂|^2 with the mean field k = 0
+ *          left out, slope, div_ratio)
+ *   mean_abs = |<B>|; random_rms = <|B − <B>|^2>^(1/2) = (Σ_{k≠0} |B̂|^2)^(1/2) (Parseval)
+ *   div_spectral = rms(k·B̂) / rms(|k| |B̂|) (field.div_ratio; 0 for a uniform field)
+ *   v_alfven = |<B>| / <rho>^(1/2); beta = 2 P / |<B>|^2 with P = <rho> c_s^2 / gamma;
+ *   alfven_mach = sigma_3d / v_alfven, sigma_3d the velocity's dispersion (the state's with a
+ *          density, else (Σ_c <(v_c − <v_c>)^2>)^(1/2)); <rho> = 1 without a density
+ *   face field B_c on the low-c faces (x_c = i dx_c): div = Σ_c (B_c[i_c + 1] − B_c[i_c]) / dx_c
+ *          (periodic); face_rms = <|B_face|^2>^(1/2); face_div_max = max |div|;
+ *          face_div = face_div_max / (face_rms / min dx) (0 for a uniform field) */
 #ifndef HELMIX_DIAG_H
 #define HELMIX_DIAG_H
 
@@ -70,9 +84,23 @@ typedef struct hx_diag {
     int mass_weighted;           /* 1: the field analysed is sqrt(rho) v */
     double seconds;              /* wall time of the analysis (inspect) */
     long long peak_rss;          /* largest resident set over the ranks, bytes (inspect) */
+    struct hx_magnetic *magnetic; /* the magnetic field (definitions above), NULL without one;
+                                   * owned by d: hx_diag_clear frees it */
 } hx_diag;
 
-/* Free the arrays of d (not d itself) and zero it. Accepts NULL. */
+typedef struct hx_magnetic {
+    hx_diag field;               /* the cell-centred B as a vector field (no state, no slices) */
+    int single;                  /* stored in single precision                            */
+    double mean_abs, random_rms, div_spectral;
+    /* what beta and M_A are taken with (NAN: unknown), and the results */
+    double density_mean, sound_speed, gamma, sigma_3d;
+    double v_alfven, beta, alfven_mach;
+    double unit_gauss, unit_velocity_cm_s; /* code units in cgs, NAN when the file has none */
+    int has_face;                /* a face-centred field was analysed                      */
+    double face_rms, face_div_max, face_div;
+} hx_magnetic;
+
+/* Free the arrays of d and its magnetic summary (not d itself) and zero it. Accepts NULL. */
 void hx_diag_clear(hx_diag *d);
 
 /* Allocate zeroed shell arrays for nshell shells (frees earlier ones). */
@@ -132,6 +160,11 @@ typedef struct hx_state_sums {
  * cloud_center, radius), sound_speed and gravity (NAN: unknown) must be set in d already.
  * Not collective. */
 void hx_diag_set_state(hx_diag *d, const hx_state_sums *s);
+
+/* From m->field (finished by hx_diag_finish) and the inputs density_mean, sound_speed, gamma
+ * and sigma_3d: mean_abs, random_rms, div_spectral, v_alfven, beta and alfven_mach (beta NAN
+ * when the sound speed is unknown; beta and M_A infinite without a mean field). Not collective. */
+void hx_diag_set_magnetic(hx_magnetic *m);
 
 /* Energies, share and slope from the filled shell arrays (not collective): e_total,
  * e_comp, e_sol, fraction, and the slope fit over [fit_kmin, fit_kmax]. */

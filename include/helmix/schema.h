@@ -65,6 +65,20 @@
 #define HX_STATE_CLOUD_CENTER "cloud_center"
 #define HX_STATE_CLOUD_RADIUS "cloud_radius"
 #define HX_STATE_REGION_MASS "region_mass"
+#define HX_STATE_GAMMA "gamma"
+#define HX_STATE_MAGNETIC_B0 "magnetic_b0"                 /* three components, the uniform field */
+#define HX_STATE_MAGNETIC_RANDOM_RMS "magnetic_random_rms" /* asked rms of the random part        */
+#define HX_STATE_MAGNETIC_RMS "magnetic_rms"               /* rms |B|, cell-centred, as written   */
+#define HX_STATE_MAGNETIC_FACE_RMS "magnetic_face_rms"
+#define HX_STATE_BETA "beta"                               /* of the uniform field, as made       */
+#define HX_STATE_ALFVEN_MACH "alfven_mach"
+#define HX_STATE_BETA_ASKED "beta_asked"
+#define HX_STATE_ALFVEN_MACH_ASKED "alfven_mach_asked"
+#define HX_STATE_UNIT_MAGNETIC "unit_magnetic_gauss"
+
+/* datasets of /dataset_units (Grid Data Format): a scalar value with a "unit" attribute */
+#define HX_UNITS_VELOCITY "velocity_unit"   /* cm/s  */
+#define HX_UNITS_MAGNETIC "magnetic_unit"   /* gauss */
 
 /* Dataset name of component c of a field with ncomp components: "velocity_x", or "density". */
 static inline void hx_schema_component(char *buf, size_t n, const char *field, int ncomp, int c)

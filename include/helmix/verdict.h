@@ -32,9 +32,18 @@ typedef struct hx_request {
     int momentum_removed;
     double tol_state;               /* relative; for sigma_s absolute, times max(1, sigma_s) */
     double tol_momentum;            /* absolute, on |P| / (M vrms)                          */
+    /* the magnetic field make recorded (/helmix/state; has_magnetic = 0: none): the uniform
+     * field B0 and the asked rms of the random part; beta and the Alfven Mach number of B0,
+     * asked (asked_* = 1) else as made (NAN: not judged) */
+    int has_magnetic;
+    double b0[3], b_random_rms, beta, alfven_mach;
+    int asked_beta, asked_alfven_mach;
+    double tol_magnetic;            /* relative: of |B0| for the mean field (of the rms |B| when
+                                     * B0 = 0), of the random rms, of beta and M_A            */
+    double tol_divergence;          /* absolute, on the spectral and the face divergence ratios */
 } hx_request;
 
-#define HX_VERDICT_MAX 20
+#define HX_VERDICT_MAX 32
 
 typedef struct hx_verdict_line {
     char quantity[48];
@@ -54,7 +63,9 @@ void hx_request_defaults(hx_request *q, int single, int fixed_amplitudes);
  * HX_ERR_ARG naming the option, the key and what is allowed. */
 hx_status hx_request_parse(hx_request *q, const char *text, int tolerances, const char *option);
 
-/* Judge d against q. */
+/* Judge d against q. The magnetic lines (mean B_x|y|z, the random rms, beta, M_A, the spectral
+ * divergence and, with a face-centred field, the face divergence) need q->has_magnetic and a
+ * magnetic field analysed in d. */
 void hx_verdict_judge(const hx_request *q, const hx_diag *d, hx_verdict *v);
 
 /* Print the requested-vs-measured table with PASS/FAIL per line and the overall verdict. */

@@ -1,4 +1,5 @@
-/* cmd_inspect.c — `helmix inspect`: options, the analysis, then the table, the files asked
+/* cmd_inspect.c — `helmix inspect`: options, the analysis (of the velocity and, when the file
+ * holds one or --magnetic names one, of the magnetic field), then the table, the files asked
  * for and, with --check, the verdict that decides the exit status (0 pass, 1 fail). */
 #include <math.h>
 #include <stdio.h>
@@ -18,7 +19,9 @@ static void inspect_usage(FILE *out)
             "solenoidal modes, shell spectra, slope, rms divergence and vorticity, one-point PDFs.\n"
             "With a density also its state: mass-weighted 3D dispersion sigma_3D, Mach number,\n"
             "virial parameter 5 sigma_1D^2 R / (G M) (Bertoldi & McKee 1992), mean and sigma_s of\n"
-            "ln rho, net momentum. Reads helmix files and any HDF5 cube.\n\n"
+            "ln rho, net momentum. With a magnetic field its rms and mean, beta and Alfven Mach\n"
+            "number of the mean field, magnetic energy spectrum and slope, and its divergence\n"
+            "(spectral, and discrete on a face-centred field). Reads helmix files and any HDF5 cube.\n\n"
             "input:\n"
             "  --vector PX,PY,PZ       three 3-D datasets holding vx, vy, vz\n"
             "  --vector P              one 4-D dataset with a component axis of length 3 (first or last)\n"
@@ -31,21 +34,35 @@ static void inspect_usage(FILE *out)
             "                          also reports the state. A helmix file with a density reports\n"
             "                          its state without it, and decomposes sqrt(rho) v by itself when\n"
             "                          its mix was asked for sqrt(rho) v ([mix] weight = mass)\n"
-            "state (with a density):\n"
+            "  --magnetic PX,PY,PZ     cell-centred magnetic field (three 3-D datasets, or one 4-D\n"
+            "                          dataset P), code magnetic units: v_A = B / sqrt(rho)\n"
+            "                          (default: a helmix file's magnetic_x|y|z when it has them)\n"
+            "  --magnetic-face PX,PY,PZ  the same field on a staggered grid: component c on the\n"
+            "                          low-c face of each cell (x_c = i dx_c, the other coordinates\n"
+            "                          at cell centres); its discrete divergence is reported\n"
+            "                          (default: a helmix file's magnetic_face_x|y|z); needs --magnetic\n"
+            "state (with a density; a magnetic field's beta needs only the sound speed):\n"
             "  --sound-speed CS        sound speed in code velocity for the Mach number sigma_3D / CS\n"
+            "                          and the plasma beta\n"
             "                          (default: the one a helmix file records; none for other files)\n"
             "  --gravity G             gravitational constant in code units for the virial parameter\n"
             "                          (default: a helmix file's; none for other files). The region is\n"
             "                          a helmix file's cloud, else the whole box with R = max(L)/2\n"
+            "  --gamma G               adiabatic index for the plasma beta, P = <rho> c_s^2 / G\n"
+            "                          (default: a helmix file's; else 1, c_s isothermal)\n"
             "analysis:\n"
             "  --remove-scale L        subtract the flow smoothed with a Gaussian of width L (code\n"
             "                          length) first, so bulk motions on scales above L are not counted\n"
-            "  --fit KMIN,KMAX         shells of the slope fit (default: the recorded band, else [2, N/4])\n"
+            "  --fit KMIN,KMAX         shells of the slope fit (default: the recorded band, else [2, N/4];\n"
+            "                          for the magnetic spectrum [2, N/4] ended at its last shell\n"
+            "                          above 1e-10 of the largest)\n"
             "verdict:\n"
             "  --check                 compare with the request recorded in the file's /helmix group\n"
             "                          and its state (/helmix/state: the asked Mach number, virial\n"
             "                          parameter, sigma_3D or sigma_s, else the values make measured;\n"
-            "                          zero net momentum when make removed the bulk flow), or with\n"
+            "                          zero net momentum when make removed the bulk flow; the\n"
+            "                          magnetic field's mean, random rms, beta and Alfven Mach number\n"
+            "                          and zero divergence when make wrote one), or with\n"
             "                          --expect; exit 0 if every line passes, 1 if not\n"
             "  --expect fraction=F,slope=S,vrms=V   what the cube should hold (any subset)\n"
             "  --tolerance fraction=F,slope=S,vrms=V  tolerances (vrms relative)\n"
@@ -79,6 +96,8 @@ static hx_status numbers(const char *opt, const char *text, double *v, int n)
 static hx_status option_value(hx_inspect_opts *o, inspect_args *a, const char *opt, const char *val)
 {
     if (!strcmp(opt, "--vector")) o->cube.vector = val;
+    else if (!strcmp(opt, "--magnetic")) o->cube.magnetic = val;
+    else if (!strcmp(opt, "--magnetic-face")) o->cube.magnetic_face = val;
     else if (!strcmp(opt, "--density")) o->cube.density = val;
     else if (!strcmp(opt, "--json")) a->json = val;
     else if (!strcmp(opt, "--csv")) a->csv = val;
@@ -99,11 +118,12 @@ static hx_status option_value(hx_inspect_opts *o, inspect_args *a, const char *o
         hx_status st = numbers(opt, val, &o->remove_scale, 1);
         if (st != HX_OK) return st;
         if (!(o->remove_scale > 0)) return hx_error_set(HX_ERR_ARG, "--remove-scale %s: must be a length > 0", val);
-    } else if (!strcmp(opt, "--sound-speed") || !strcmp(opt, "--gravity")) {
-        double *dst = opt[2] == 's' ? &o->sound_speed : &o->gravity;
+    } else if (!strcmp(opt, "--sound-speed") || !strcmp(opt, "--gravity") || !strcmp(opt, "--gamma")) {
+        double *dst = opt[2] == 's' ? &o->sound_speed : !strcmp(opt, "--gamma") ? &o->gamma : &o->gravity;
         hx_status st = numbers(opt, val, dst, 1);
         if (st != HX_OK) return st;
-        if (!(*dst > 0)) return hx_error_set(HX_ERR_ARG, "%s %s: must be a number > 0 (code units)", opt, val);
+        if (!(*dst > 0))
+            return hx_error_set(HX_ERR_ARG, "%s %s: must be a number > 0%s", opt, val, dst == &o->gamma ? "" : " (code units)");
     } else if (!strcmp(opt, "--fit")) {
         hx_status st = numbers(opt, val, o->fit, 2);
         if (st != HX_OK) return st;
@@ -141,6 +161,10 @@ static hx_status parse_args(int argc, char **argv, inspect_args *a)
         else a->o.cube.file = s;
     }
     if (!a->help && !a->o.cube.file) return hx_error_set(HX_ERR_ARG, "no file given (helmix inspect --help)");
+    if (a->o.cube.magnetic_face && !a->o.cube.magnetic)
+        return hx_error_set(HX_ERR_ARG, "--magnetic-face %s: name the cell-centred field with --magnetic too",
+                            a->o.cube.magnetic_face);
+    a->o.cube.find_magnetic = 1;
     if (a->plot) {
         const char *dot = strrchr(a->plot, '.');
         if (!dot || (strcasecmp(dot, ".png") && strcasecmp(dot, ".pdf")))

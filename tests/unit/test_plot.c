@@ -1,7 +1,8 @@
 /* test_plot.c — the report page: a synthetic cube summary renders to PNG and PDF, the
  * files are real images of the promised size with the panels drawn, missing parts still
- * render, and bad paths or formats fail with the documented status. Set HX_TEST_KEEP=1 to
- * keep the rendered files in /tmp for viewing. */
+ * render, a magnetic field adds its own row below without touching the rest of the page, and
+ * bad paths or formats fail with the documented status. Set HX_TEST_KEEP=1 to keep the
+ * rendered files in /tmp for viewing. */
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -337,6 +338,118 @@ static void test_large_slice(void)
     free_diag(&d);
 }
 
+/* A magnetic summary: E_B ~ k^-5/3 on shells 1..12 (a band-limited random part), a mean field
+ * of 10 uG in a code unit of 3.545e-5 G, and a face-centred field. */
+static hx_magnetic *make_magnetic(int face)
+{
+    hx_magnetic *m = calloc(1, sizeof *m);
+    hx_diag *b = &m->field;
+    b->cells[0] = b->cells[1] = b->cells[2] = N;
+    b->box[0] = b->box[1] = b->box[2] = 1.0;
+    b->nshell = NSHELL;
+    b->shell_e = calloc(NSHELL, sizeof(double));
+    b->shell_comp = calloc(NSHELL, sizeof(double));
+    b->shell_sol = calloc(NSHELL, sizeof(double));
+    b->shell_modes = calloc(NSHELL, sizeof(double));
+    for (int s = 1; s < NSHELL; s++) {
+        b->shell_modes[s] = 4 * M_PI * s * s;
+        b->shell_e[s] = s <= 12 ? 3e-3 * pow(s, -5.0 / 3.0) : 1e-34; /* round-off beyond the band */
+        b->shell_comp[s] = 1e-36;
+        b->shell_sol[s] = b->shell_e[s] - b->shell_comp[s];
+    }
+    b->fit_kmin = 2, b->fit_kmax = 12, b->slope = 1.66, b->slope_err = 0.05;
+    b->mean[0] = b->mean[1] = 0.1995, b->rms3 = 0.3154, b->e_total = 0.00995;
+    m->mean_abs = 0.2821, m->random_rms = 0.1410, m->div_spectral = 1.4e-15;
+    m->density_mean = 1, m->sound_speed = 0.188, m->gamma = 1, m->sigma_3d = 0.94;
+    m->v_alfven = 0.2821, m->beta = 0.8899, m->alfven_mach = 3.335;
+    m->unit_gauss = 3.5449e-5, m->unit_velocity_cm_s = 1e5;
+    m->has_face = face, m->face_rms = 0.315, m->face_div = 5.3e-16, m->face_div_max = 5.3e-15;
+    return m;
+}
+
+static void free_magnetic(hx_diag *d)
+{
+    if (!d->magnetic) return;
+    hx_diag *b = &d->magnetic->field;
+    free(b->shell_e), free(b->shell_comp), free(b->shell_sol), free(b->shell_modes);
+    free(d->magnetic);
+    d->magnetic = NULL;
+}
+
+#define MAGNETIC_RGB 0xb82978u /* the magnetic spectrum's colour, (0.72, 0.16, 0.47) in plot.c */
+#define NORMAL_RGB 0xbdc2c9u   /* the grey of reference curves, (0.74, 0.76, 0.79) in draw.h */
+
+/* Requirement (inspect learns magnetic fields): with a magnetic field the page shows a row of
+ * its own below the slices — the magnetic energy spectrum drawn in its colour beside the
+ * kinetic one (grey) and a box of key numbers — and the page above that row is unchanged, so
+ * the new row overlaps no existing panel. A uniform field (no spectrum) and a field without
+ * faces still render; the PDF page grows the same way. */
+static void test_magnetic_page(void)
+{
+    hx_diag d = make_diag(SLICE);
+    hx_plot_request req = {2.0, 1.0 / 3.0, "magnetised.h5"};
+    char plain[160], mag[160], uni[160], pdf[160];
+    snprintf(plain, sizeof plain, "%s.plain.png", png_path);
+    snprintf(mag, sizeof mag, "%s.magnetic.png", png_path);
+    snprintf(uni, sizeof uni, "%s.uniform.png", png_path);
+    snprintf(pdf, sizeof pdf, "%s.magnetic.pdf", png_path);
+    CHECK(hx_plot_report(&d, &req, plain) == HX_OK);
+    d.magnetic = make_magnetic(1);
+    CHECK(hx_plot_report(&d, &req, mag) == HX_OK);
+    cairo_surface_t *p = read_png(plain), *s = read_png(mag);
+    if (p && s) {
+        int w = cairo_image_surface_get_width(s), h = cairo_image_surface_get_height(s);
+        int h0 = cairo_image_surface_get_height(p);
+        CHECK(w == 1800 && h0 == 1300 && h > h0 + 300); /* a row of its own, below the old page */
+        if (w == 1800 && h0 == 1300 && h > h0 + 300) {
+            const box row = {0, h0, w, h}, above = {0, 0, w, h0}, right = {w * 2 / 3, h0, w, h};
+            CHECK(count_near(s, row, MAGNETIC_RGB, 10) > 300);   /* the E_B(k) curve and its markers */
+            CHECK(count_near(s, above, MAGNETIC_RGB, 10) == 0);  /* nowhere else */
+            CHECK(count_near(p, above, MAGNETIC_RGB, 10) == 0);  /* and not without a magnetic field */
+            CHECK(count_near(s, row, NORMAL_RGB, 6) > 300);      /* the kinetic spectrum for comparison */
+            long ink = 0;                                        /* the key numbers: text at the right */
+            for (int y = right.y0; y < right.y1; y++)
+                for (int x = right.x0; x < right.x1; x++) ink += luma(pixel(s, x, y)) < 100;
+            CHECK(ink > 2000);
+            long differ = 0; /* the page above the row is the page without a magnetic field */
+            for (int y = 0; y < h0; y++)
+                for (int x = 0; x < w; x++) differ += pixel(s, x, y) != pixel(p, x, y);
+            CHECK(differ == 0);
+        }
+    }
+    if (p) cairo_surface_destroy(p);
+    if (s) cairo_surface_destroy(s);
+    /* PDF: one page whose height grows with the row (aspect 1780/1800 instead of 1300/1800) */
+    CHECK(hx_plot_report(&d, &req, pdf) == HX_OK);
+    CHECK(starts_with_pdf(pdf));
+    if (access("/usr/bin/pdftoppm", X_OK) == 0) {
+        char cmd[512], out[200];
+        snprintf(cmd, sizeof cmd, "/usr/bin/pdftoppm -png -r 50 -singlefile %s %s.magnetic", pdf, ppm_base);
+        CHECK(system(cmd) == 0);
+        snprintf(out, sizeof out, "%s.magnetic.png", ppm_base);
+        cairo_surface_t *r = read_png(out);
+        if (r) {
+            double aspect = (double)cairo_image_surface_get_height(r) / cairo_image_surface_get_width(r);
+            CHECK(aspect > 0.95 && aspect < 1.0);
+            cairo_surface_destroy(r);
+        }
+        discard(out);
+    }
+    /* a uniform field has no spectrum (every shell empty) and here no face field: still a page,
+     * with no magnetic curve */
+    for (int k = 0; k < NSHELL; k++) d.magnetic->field.shell_e[k] = d.magnetic->field.shell_comp[k] = 0;
+    d.magnetic->has_face = 0, d.magnetic->random_rms = 0, d.magnetic->beta = INFINITY;
+    CHECK(hx_plot_report(&d, &req, uni) == HX_OK);
+    if ((s = read_png(uni))) {
+        int h = cairo_image_surface_get_height(s);
+        CHECK(h > 1600 && count_near(s, (box){0, 1300, 1800, h}, MAGNETIC_RGB, 10) == 0);
+        cairo_surface_destroy(s);
+    }
+    discard(plain), discard(mag), discard(uni), discard(pdf);
+    free_magnetic(&d);
+    free_diag(&d);
+}
+
 /* Requirement: other extensions give HX_ERR_ARG; cairo failures give HX_ERR_IO naming the path. */
 static void test_errors(void)
 {
@@ -365,6 +478,7 @@ int main(void)
     test_slice_orientation();
     test_odd_title();
     test_large_slice();
+    test_magnetic_page();
     test_errors();
     return hx_test_finish();
 }

@@ -1,9 +1,10 @@
 /* test_verdict.c — requested versus measured: each line passes inside its tolerance and
- * fails outside it, information lines never fail, the state in a density is judged against
- * the asked or recorded values, and --expect/--tolerance text is parsed or refused with a
- * clear message. */
+ * fails outside it, information lines never fail, the state in a density and the magnetic
+ * field are judged against the asked or recorded values, and --expect/--tolerance text is
+ * parsed or refused with a clear message. */
 #include <math.h>
 
+#include "helmix/cube.h"
 #include "helmix/verdict.h"
 #include "hx_test.h"
 
@@ -193,11 +194,151 @@ static void test_weighted_rms(void)
     CHECK(v.n == 12 && v.n <= HX_VERDICT_MAX);
 }
 
+/* A magnetic summary that matches magnetic_request below exactly: B0 = (0.3, 0.4, 0), |B0| = 0.5,
+ * random rms 0.25, beta 0.8, M_A 3, divergences at round-off of single precision. */
+static hx_magnetic magnetic_summary(void)
+{
+    hx_magnetic m = {0};
+    m.field.mean[0] = 0.3, m.field.mean[1] = 0.4, m.field.mean[2] = 0.0;
+    m.field.rms3 = sqrt(0.25 + 0.25 * 0.25);
+    m.mean_abs = 0.5, m.random_rms = 0.25, m.beta = 0.8, m.alfven_mach = 3.0;
+    m.div_spectral = 1e-7, m.has_face = 1, m.face_div = 2e-7;
+    return m;
+}
+
+/* What make records of that field, read back by cube.c as --check does (beta asked). */
+static hx_request magnetic_request(int single)
+{
+    hx_cube_state s;
+    hx_request q;
+    memset(&s, 0, sizeof s);
+    s.found = 1;
+    s.b0[0] = 0.3, s.b0[1] = 0.4, s.b0[2] = 0.0, s.b_random_rms = 0.25;
+    s.beta = 0.8, s.beta_asked = 0.8, s.alfven_mach = 3.0, s.alfven_mach_asked = NAN;
+    hx_request_defaults(&q, single, 0);
+    hx_cube_request_magnetic(&s, single, &q);
+    return q;
+}
+
+static double tolerance_of(const hx_verdict *v, const char *what)
+{
+    for (int i = 0; i < v->n; i++)
+        if (!strcmp(v->line[i].quantity, what)) return v->line[i].tolerance;
+    return NAN;
+}
+
+/* The magnetic lines (helmix specification: the mean field equals B0 within 1e-5 (single) /
+ * 1e-9 (double) of |B0|, or of the rms when B0 = 0; the random rms within the same relative
+ * tolerance; beta and M_A equal to the asked value, else the recorded one; both divergence
+ * ratios below 1e-5 (single) / 1e-12 (double)); each passes inside and fails outside. */
+static void test_magnetic(void)
+{
+    hx_verdict v;
+    hx_diag d = cube(0.3, 2.0, 2.0);
+    hx_magnetic m = magnetic_summary();
+    hx_request q = magnetic_request(1);
+    d.magnetic = &m;
+    CHECK(q.has_magnetic && q.asked_beta && !q.asked_alfven_mach);
+    CHECK(q.tol_magnetic == 1e-5 && q.tol_divergence == 1e-5);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && v.n == 8);
+    CHECK(line_passed(&v, "mean field B_x") == 1 && line_passed(&v, "mean field B_y") == 1);
+    CHECK(line_passed(&v, "mean field B_z") == 1 && line_passed(&v, "rms of the random field") == 1);
+    CHECK(line_passed(&v, "plasma beta") == 1);                /* asked: no suffix */
+    CHECK(line_passed(&v, "Alfven Mach number as made") == 1); /* recorded */
+    CHECK(line_passed(&v, "divergence of B (spectral)") == 1 && line_passed(&v, "divergence of B (faces)") == 1);
+    CHECK_CLOSE(tolerance_of(&v, "mean field B_z"), 0.5e-5, 1e-18); /* relative to |B0|, for the zero component too */
+    /* each line alone: just inside passes, just outside fails, the others stay */
+    m = magnetic_summary(), m.field.mean[0] = 0.3 + 0.9 * 0.5e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed);
+    m.field.mean[0] = 0.3 + 1.1 * 0.5e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "mean field B_x") == 0 && line_passed(&v, "mean field B_y") == 1);
+    m = magnetic_summary(), m.field.mean[2] = -1.1 * 0.5e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "mean field B_z") == 0);
+    m = magnetic_summary(), m.random_rms = 0.25 * (1 + 0.9e-5);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed);
+    m.random_rms = 0.25 * (1 + 1.1e-5);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "rms of the random field") == 0 && line_passed(&v, "plasma beta") == 1);
+    m = magnetic_summary(), m.beta = 0.8 * (1 - 1.1e-5);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "plasma beta") == 0 && line_passed(&v, "Alfven Mach number as made") == 1);
+    m = magnetic_summary(), m.alfven_mach = 3.0 * (1 + 1.1e-5);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "Alfven Mach number as made") == 0 && line_passed(&v, "plasma beta") == 1);
+    m = magnetic_summary(), m.alfven_mach = NAN; /* not measurable: a recorded value cannot pass */
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "Alfven Mach number as made") == 0);
+    m = magnetic_summary(), m.div_spectral = 0.9e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed);
+    m.div_spectral = 1.1e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "divergence of B (spectral)") == 0 && line_passed(&v, "divergence of B (faces)") == 1);
+    m = magnetic_summary(), m.face_div = 1.1e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "divergence of B (faces)") == 0 && line_passed(&v, "divergence of B (spectral)") == 1);
+    m.face_div = NAN; /* a field holding non-numbers */
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "divergence of B (faces)") == 0);
+    /* B scaled by 1.1: mean, random rms, beta (1/1.21) and M_A (1/1.1) fail; the divergences do not */
+    m = magnetic_summary();
+    m.field.mean[0] *= 1.1, m.field.mean[1] *= 1.1, m.random_rms *= 1.1, m.beta /= 1.21, m.alfven_mach /= 1.1;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "mean field B_x") == 0 && line_passed(&v, "rms of the random field") == 0);
+    CHECK(line_passed(&v, "plasma beta") == 0 && line_passed(&v, "Alfven Mach number as made") == 0);
+    CHECK(line_passed(&v, "divergence of B (spectral)") == 1 && line_passed(&v, "divergence of B (faces)") == 1);
+    /* double precision: 1e-9 relative, 1e-12 on the divergences */
+    q = magnetic_request(0);
+    CHECK(q.tol_magnetic == 1e-9 && q.tol_divergence == 1e-12);
+    m = magnetic_summary(), m.div_spectral = 5e-13, m.face_div = 5e-13, m.random_rms = 0.25 * (1 + 5e-10);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed);
+    m.face_div = 2e-12, m.random_rms = 0.25 * (1 + 2e-9);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "divergence of B (faces)") == 0 && line_passed(&v, "rms of the random field") == 0);
+    /* no uniform field: the mean is held to the rms of B; beta and M_A are infinite, not judged */
+    hx_cube_state s;
+    memset(&s, 0, sizeof s);
+    s.found = 1, s.b_random_rms = 0.25, s.beta = INFINITY, s.alfven_mach = INFINITY;
+    s.beta_asked = s.alfven_mach_asked = NAN;
+    hx_request_defaults(&q, 1, 0);
+    hx_cube_request_magnetic(&s, 1, &q);
+    m = magnetic_summary(), m.field.mean[0] = m.field.mean[1] = 0.0, m.field.rms3 = 0.25, m.mean_abs = 0;
+    m.field.mean[2] = 0.9 * 0.25e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && v.n == 6 && line_passed(&v, "plasma beta") == -1);
+    m.field.mean[2] = 1.1 * 0.25e-5;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed && line_passed(&v, "mean field B_z") == 0);
+    /* without a face-centred field there is no face line; without a magnetic analysis no line;
+     * a file that records no magnetic field asks for none */
+    q = magnetic_request(1), m = magnetic_summary(), m.has_face = 0, m.face_div = 1.0;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && v.n == 7 && line_passed(&v, "divergence of B (faces)") == -1);
+    d.magnetic = NULL;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.passed && v.n == 0);
+    memset(&s, 0, sizeof s);
+    s.found = 1;
+    s.b0[0] = s.b0[1] = s.b0[2] = NAN;
+    hx_request_defaults(&q, 1, 0);
+    hx_cube_request_magnetic(&s, 1, &q);
+    d.magnetic = &m;
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!q.has_magnetic && v.n == 0);
+}
+
 int main(void)
 {
     test_judge();
     test_parse();
     test_state();
     test_weighted_rms();
+    test_magnetic();
     return hx_test_finish();
 }
