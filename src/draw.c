@@ -323,11 +323,14 @@ void hx_draw_draw_series(cairo_t *cr, const frame *f, const series *s, const sty
     cairo_restore(cr);
 }
 
+/* A horizontal line at value v of f's y axis, linear or log; nothing when v is off the frame. */
 void hx_draw_hline(cairo_t *cr, const frame *f, double v, const style *st)
 {
-    if (!isfinite(v) || v < f->ay.lo || v > f->ay.hi) return;
+    if (!isfinite(v) || (f->ay.log && !(v > 0))) return;
+    double y = hx_draw_fy(f, v);
+    if (y < f->y - 0.5 || y > f->y + f->h + 0.5) return;
     hx_draw_apply_style(cr, st);
-    hx_draw_line(cr, f->x, hx_draw_fy(f, v), f->x + f->w, hx_draw_fy(f, v));
+    hx_draw_line(cr, f->x, y, f->x + f->w, y);
     cairo_set_dash(cr, NULL, 0, 0);
 }
 

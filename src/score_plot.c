@@ -85,18 +85,6 @@ static void polyline(cairo_t *cr, const frame *f, const double *x, const double 
     cairo_restore(cr);
 }
 
-/* A horizontal line at value v of f's y axis, linear or log (hx_draw_hline compares v with
- * the axis ends, which on a log axis are exponents). */
-static void level_line(cairo_t *cr, const frame *f, double v, const style *st)
-{
-    if (!isfinite(v) || (f->ay.log && !(v > 0))) return;
-    double y = hx_draw_fy(f, v);
-    if (y < f->y - 0.5 || y > f->y + f->h + 0.5) return;
-    hx_draw_apply_style(cr, st);
-    hx_draw_line(cr, f->x, y, f->x + f->w, y);
-    cairo_set_dash(cr, NULL, 0, 0);
-}
-
 static double ratio(double err, double tol)
 {
     if (!isfinite(err)) return INFINITY;
@@ -307,7 +295,7 @@ static void errors_panel(cairo_t *cr, const hx_scorecard *sc, frame f)
     cairo_set_line_width(cr, 1.4);
     hx_draw_line(cr, f.x, f.y + f.h, f.x + f.w, f.y + f.h);
     const style tol = {INK, 1.6, {10, 6}, 0};
-    level_line(cr, &f, 1, &tol);
+    hx_draw_hline(cr, &f, 1, &tol);
     double off = fmin(step * 0.22, 9), r = fmin(fmax(step * 0.16, 3.5), 6.5);
     cairo_save(cr);
     cairo_rectangle(cr, f.x, f.y - 8, f.w, f.h + 16);
@@ -392,7 +380,7 @@ static void shell_errors(cairo_t *cr, const hx_score_shells *s, frame g)
     hx_draw_x_axis(cr, &g);
     hx_draw_y_axis(cr, &g);
     const style tol = {INK, 1.6, {10, 6}, 0};
-    level_line(cr, &g, s->tolerance, &tol);
+    hx_draw_hline(cr, &g, s->tolerance, &tol);
     const style pc = {COMP, 1.4, {0, 0}, 2.6}, ps = {SOL, 1.4, {0, 0}, 2.6};
     for (int i = 0; i < s->n; i++) ec[i] = fmax(ec[i], bottom), es[i] = fmax(es[i], bottom);
     polyline(cr, &g, s->k, es, s->n, 0, &ps);
