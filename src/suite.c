@@ -28,7 +28,7 @@ typedef struct tol_t {
     const char *reason;
 } tol_t;
 
-#define SHELLS_NOTE " shells_relative is relative to each shell's energy and applies to shells holding at least 1e-10 of the total; parts_rms_relative is the rms of the difference over the rms of the part."
+#define SHELLS_NOTE " shells_relative is relative to each shell's energy and applies to shells holding more than 1e-12 of the largest shell's; parts_rms_relative is the rms of the difference over the rms of the field the parts add up to (a part may be zero)."
 static const tol_t TOL_EXACT = {1e-6, 1e-6, 1e-6,
                                 "Double-precision data whose answer holds to round-off (about 1e-13): 1e-6 is far above "
                                 "round-off and far below the error of any real method (common practice)." SHELLS_NOTE};
