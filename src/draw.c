@@ -2,10 +2,14 @@
  * cleaned to valid UTF-8 before cairo sees it; numbers print the typographic minus. */
 #include "draw.h"
 
+#include <cairo-pdf.h>
+
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <string.h>
+
+#include "helmix/version.h"
 
 /* ---- colours and line styles ----------------------------------------------------------- */
 
@@ -382,3 +386,54 @@ void hx_draw_legend(cairo_t *cr, double x, double y, const entry *e, int n, char
     for (int i = 0; i < nnotes; i++, cy += LEG_ROW) hx_draw_set_rgb(cr, INK), hx_draw_text(cr, notes[i], x + LEG_PAD, cy, 0, 0.5);
 }
 
+
+/* ---- pages ----------------------------------------------------------------------------- */
+
+static int ends_with(const char *s, const char *ext)
+{
+    size_t n = strlen(s), m = strlen(ext);
+    if (n < m) return 0;
+    for (size_t i = 0; i < m; i++) {
+        char c = s[n - m + i];
+        if ((c >= 'A' && c <= 'Z' ? c - 'A' + 'a' : c) != ext[i]) return 0;
+    }
+    return 1;
+}
+
+static hx_status check_cairo(cairo_status_t cs, const char *who, const char *what, const char *path)
+{
+    if (cs == CAIRO_STATUS_SUCCESS) return HX_OK;
+    return hx_error_set(HX_ERR_IO, "%s '%s': %s failed: %s", who, path, what, cairo_status_to_string(cs));
+}
+
+hx_status hx_draw_page_write(const char *path, const char *title, int width, int height, double pdf_width,
+                             hx_draw_page_fn draw, const void *user, const char *who)
+{
+    int pdf = ends_with(path, ".pdf");
+    if (!pdf && !ends_with(path, ".png"))
+        return hx_error_set(HX_ERR_ARG, "%s '%s': unknown format; the file name must end in .png or .pdf", who, path);
+    double dev = pdf ? pdf_width / width : 1.0;
+    cairo_surface_t *surf = pdf ? cairo_pdf_surface_create(path, width * dev, height * dev)
+                                : cairo_image_surface_create(CAIRO_FORMAT_RGB24, width, height);
+    hx_status st = check_cairo(cairo_surface_status(surf), who, pdf ? "creating the PDF" : "creating the image", path);
+    int created = st == HX_OK;
+    if (created && pdf) {
+        cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_CREATOR, "helmix " HX_VERSION);
+        cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_TITLE, title);
+    }
+    if (created) {
+        cairo_t *cr = cairo_create(surf);
+        cairo_scale(cr, dev, dev);
+        st = draw(cr, user, dev);
+        if (st == HX_OK) st = check_cairo(cairo_status(cr), who, "drawing", path);
+        cairo_destroy(cr);
+        if (st == HX_OK && !pdf) st = check_cairo(cairo_surface_write_to_png(surf, path), who, "writing the PNG", path);
+        if (st == HX_OK && pdf) {
+            cairo_surface_finish(surf);
+            st = check_cairo(cairo_surface_status(surf), who, "writing the PDF", path);
+        }
+    }
+    cairo_surface_destroy(surf);
+    if (st != HX_OK && pdf && created) remove(path); /* no half-written page left behind */
+    return st;
+}

@@ -8,6 +8,8 @@
 #include <cairo.h>
 #include <stddef.h>
 
+#include "helmix/error.h"
+
 #ifndef M_PI /* POSIX, not ISO C */
 #define M_PI 3.14159265358979323846
 #endif
@@ -93,6 +95,16 @@ void hx_draw_draw_series(cairo_t *cr, const frame *f, const series *s, const sty
 void hx_draw_hline(cairo_t *cr, const frame *f, double v, const style *st);
 void hx_draw_sample(cairo_t *cr, const style *st, double x, double y, double len);
 void hx_draw_legend_box(cairo_t *cr, double x, double y, double w, double h);
+
+/* Draws a page on cr (already scaled to logical units); dev is device units per logical unit. */
+typedef hx_status (*hx_draw_page_fn)(cairo_t *cr, const void *user, double dev);
+
+/* Write a page of width x height logical units to path, a PNG (one unit, one pixel) or a PDF
+ * page pdf_width points wide, chosen by the extension (.png or .pdf, any case). `who` names the
+ * page in messages ("plot", "score plot"). HX_ERR_ARG for another extension, HX_ERR_IO when
+ * cairo cannot create, draw or write the file; a half-written PDF is removed. Not collective. */
+hx_status hx_draw_page_write(const char *path, const char *title, int width, int height, double pdf_width,
+                             hx_draw_page_fn draw, const void *user, const char *who);
 
 void hx_draw_legend(cairo_t *cr, double x, double y, const entry *e, int n, char (*notes)[96], int nnotes);
 

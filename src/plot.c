@@ -846,49 +846,18 @@ static hx_status draw_page(cairo_t *cr, const hx_diag *d, const hx_plot_request 
     return st;
 }
 
-static int ends_with(const char *s, const char *ext)
-{
-    size_t n = strlen(s), m = strlen(ext);
-    if (n < m) return 0;
-    for (size_t i = 0; i < m; i++) {
-        char c = s[n - m + i];
-        if ((c >= 'A' && c <= 'Z' ? c - 'A' + 'a' : c) != ext[i]) return 0;
-    }
-    return 1;
-}
+/* The inspect page, for hx_draw_page_write. */
+typedef struct page_args {
+    const hx_diag *d;
+    const hx_plot_request *req;
+    const char *title;
+    int height;
+} page_args;
 
-static hx_status check_cairo(cairo_status_t cs, const char *what, const char *path)
+static hx_status draw_report(cairo_t *cr, const void *user, double dev)
 {
-    if (cs == CAIRO_STATUS_SUCCESS) return HX_OK;
-    return hx_error_set(HX_ERR_IO, "plot '%s': %s failed: %s", path, what, cairo_status_to_string(cs));
-}
-
-static cairo_surface_t *make_surface(int pdf, const char *path, const char *title, int height)
-{
-    if (!pdf) return cairo_image_surface_create(CAIRO_FORMAT_RGB24, PAGE_W, height);
-    double s = PDF_W / PAGE_W;
-    cairo_surface_t *surf = cairo_pdf_surface_create(path, PAGE_W * s, height * s);
-    if (cairo_surface_status(surf) == CAIRO_STATUS_SUCCESS) {
-        cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_CREATOR, "helmix " HX_VERSION);
-        cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_TITLE, title);
-    }
-    return surf;
-}
-
-/* Draw the page on a created surface and write it out. */
-static hx_status render(cairo_surface_t *surf, int pdf, const hx_diag *d, const hx_plot_request *req,
-                        const char *title, const char *path)
-{
-    double dev = pdf ? PDF_W / PAGE_W : 1.0;
-    cairo_t *cr = cairo_create(surf);
-    cairo_scale(cr, dev, dev);
-    hx_status st = draw_page(cr, d, req, title, dev);
-    if (st == HX_OK) st = check_cairo(cairo_status(cr), "drawing", path);
-    cairo_destroy(cr);
-    if (st != HX_OK) return st;
-    if (!pdf) return check_cairo(cairo_surface_write_to_png(surf, path), "writing the PNG", path);
-    cairo_surface_finish(surf);
-    return check_cairo(cairo_surface_status(surf), "writing the PDF", path);
+    const page_args *p = user;
+    return draw_page(cr, p->d, p->req, p->title, dev);
 }
 
 hx_status hx_plot_report(const hx_diag *d, const hx_plot_request *req, const char *path)
@@ -896,15 +865,7 @@ hx_status hx_plot_report(const hx_diag *d, const hx_plot_request *req, const cha
     char title[512];
     if (!d || !path)
         return hx_error_set(HX_ERR_ARG, "plot: %s is NULL", !d ? "the cube summary" : "the output path");
-    int pdf = ends_with(path, ".pdf");
-    if (!pdf && !ends_with(path, ".png"))
-        return hx_error_set(HX_ERR_ARG, "plot '%s': unknown format; the file name must end in .png or .pdf", path);
     hx_draw_clean_line(title, sizeof title, req && req->title ? req->title : "velocity cube");
-    cairo_surface_t *surf = make_surface(pdf, path, title, page_height(d));
-    hx_status st = check_cairo(cairo_surface_status(surf), pdf ? "creating the PDF" : "creating the image", path);
-    int created = st == HX_OK;
-    if (created) st = render(surf, pdf, d, req, title, path);
-    cairo_surface_destroy(surf);
-    if (st != HX_OK && pdf && created) remove(path); /* no half-written page left behind */
-    return st;
+    page_args p = {d, req, title, page_height(d)};
+    return hx_draw_page_write(path, title, PAGE_W, p.height, PDF_W, draw_report, &p, "plot");
 }

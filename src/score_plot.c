@@ -549,52 +549,27 @@ static void draw_page(cairo_t *cr, const hx_scorecard *sc, const char *title)
     ladder_panel(cr, sc, lad);
 }
 
-static int ends_with(const char *s, const char *ext)
-{
-    size_t n = strlen(s), m = strlen(ext);
-    if (n < m) return 0;
-    for (size_t i = 0; i < m; i++) {
-        char c = s[n - m + i];
-        if ((c >= 'A' && c <= 'Z' ? c - 'A' + 'a' : c) != ext[i]) return 0;
-    }
-    return 1;
-}
+/* The scorecard page, for hx_draw_page_write. */
+typedef struct page_args {
+    const hx_scorecard *sc;
+    const char *title;
+} page_args;
 
-static hx_status check_cairo(cairo_status_t cs, const char *what, const char *path)
+static hx_status draw_scorecard(cairo_t *cr, const void *user, double dev)
 {
-    if (cs == CAIRO_STATUS_SUCCESS) return HX_OK;
-    return hx_error_set(HX_ERR_IO, "score plot '%s': %s failed: %s", path, what, cairo_status_to_string(cs));
+    (void)dev;
+    const page_args *p = user;
+    draw_page(cr, p->sc, p->title);
+    return HX_OK;
 }
 
 hx_status hx_score_plot(const hx_scorecard *sc, const char *path)
 {
     char title[600], raw[1100];
     if (!sc || !path) return hx_error_set(HX_ERR_ARG, "score plot: %s is NULL", !sc ? "the scorecard" : "the output path");
-    int pdf = ends_with(path, ".pdf");
-    if (!pdf && !ends_with(path, ".png"))
-        return hx_error_set(HX_ERR_ARG, "score plot '%s': unknown format; the file name must end in .png or .pdf", path);
     const char *rb = strrchr(sc->results, '/'), *mb = strrchr(sc->manifest, '/');
     snprintf(raw, sizeof raw, "Scorecard: %s against %s", rb ? rb + 1 : sc->results, mb ? mb + 1 : sc->manifest);
     hx_draw_clean_line(title, sizeof title, raw);
-    double dev = pdf ? PDF_W / PAGE_W : 1.0;
-    cairo_surface_t *surf = pdf ? cairo_pdf_surface_create(path, PAGE_W * dev, PAGE_H * dev)
-                                : cairo_image_surface_create(CAIRO_FORMAT_RGB24, PAGE_W, PAGE_H);
-    hx_status st = check_cairo(cairo_surface_status(surf), pdf ? "creating the PDF" : "creating the image", path);
-    int created = st == HX_OK;
-    if (created && pdf) {
-        cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_CREATOR, "helmix " HX_VERSION);
-        cairo_pdf_surface_set_metadata(surf, CAIRO_PDF_METADATA_TITLE, title);
-    }
-    if (created) {
-        cairo_t *cr = cairo_create(surf);
-        cairo_scale(cr, dev, dev);
-        draw_page(cr, sc, title);
-        st = check_cairo(cairo_status(cr), "drawing", path);
-        cairo_destroy(cr);
-        if (st == HX_OK && !pdf) st = check_cairo(cairo_surface_write_to_png(surf, path), "writing the PNG", path);
-        if (st == HX_OK && pdf) cairo_surface_finish(surf), st = check_cairo(cairo_surface_status(surf), "writing the PDF", path);
-    }
-    cairo_surface_destroy(surf);
-    if (st != HX_OK && pdf && created) remove(path); /* no half-written page left behind */
-    return st;
+    page_args p = {sc, title};
+    return hx_draw_page_write(path, title, PAGE_W, PAGE_H, PDF_W, draw_scorecard, &p, "score plot");
 }
