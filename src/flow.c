@@ -114,18 +114,21 @@ static inline void add_velocity(hx_sum *acc, int c, double wt, double v, const d
     for (int a = 0; a < 3; a++) hx_sum_add(&acc[VX + 3 * c + a], wt * v * d[a]);
 }
 
-void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const double *v, const double *rho, const hx_cloud *cl)
+void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const void *vals, hx_precision prec, const double *rho,
+                 const hx_cloud *cl)
 {
+    const double *vd = vals;
+    const float *vf = vals;
     for (ptrdiff_t z = 0; z < g->nz; z++)
         for (ptrdiff_t y = 0; y < g->n[1]; y++)
             for (ptrdiff_t x = 0; x < g->n[0]; x++) {
                 ptrdiff_t i = (z * g->n[1] + y) * g->n[0] + x;
-                double p[3], d[3], r = rho ? rho[i] : 1.0;
+                double p[3], d[3], r = rho ? rho[i] : 1.0, v = prec == HX_PREC_DOUBLE ? vd[i] : (double)vf[i];
                 centre(g, z, y, x, p);
                 for (int a = 0; a < 3; a++) d[a] = p[a] - fl->origin[a];
-                add_velocity(fl->acc[0], c, mass_weight(fl, cl, r, p), v[i], d);
-                if (hx_cloud_inside(cl, dist(p, cl->center))) add_velocity(fl->acc[1], c, r, v[i], d);
-                add_velocity(fl->acc[2], c, 1.0, v[i], d);
+                add_velocity(fl->acc[0], c, mass_weight(fl, cl, r, p), v, d);
+                if (hx_cloud_inside(cl, dist(p, cl->center))) add_velocity(fl->acc[1], c, r, v, d);
+                add_velocity(fl->acc[2], c, 1.0, v, d);
             }
 }
 

@@ -379,14 +379,6 @@ static void shape_component(const run_t *R, int c, const double origin[3], const
             }
 }
 
-/* Values of a slab in either precision, as doubles into tmp (or the slab itself). */
-static const double *as_doubles(const void *slab, hx_precision prec, int64_t n, double *tmp)
-{
-    if (prec == HX_PREC_DOUBLE) return slab;
-    for (int64_t i = 0; i < n; i++) tmp[i] = ((const float *)slab)[i];
-    return tmp;
-}
-
 /* The scale that gives the asked amplitude to a field whose sums are in fl. */
 static hx_status solve_scale(run_t *R, const hx_flow *fl, double *scale)
 {
@@ -444,13 +436,11 @@ static hx_status velocity_one_pass(run_t *R, hx_desc *dv, const hx_spectrum *sp,
     hx_status st = HX_OK;
     const hx_recipe *r = R->r;
     const hx_grid *g = &R->g;
-    int64_t n = g->nz * g->n[1] * g->n[0];
-    double *tmp = NULL, t = MPI_Wtime(), sum2 = 0;
+    double t = MPI_Wtime(), sum2 = 0, var = 0;
     velocity_desc(r, one_pass_rms(R), dv);
     HX_TRY(hx_field_mix(R->f, dv, sp));
     if (hx_field_summary_get(R->f))
         hx_log_say(R->log, HX_LOG_INFO, "draw: k-space pass for the mix in %.2f s", MPI_Wtime() - t);
-    if (r->precision == HX_PREC_SINGLE) HX_TRY(hx_error_agree(R->comm, (tmp = malloc((size_t)(n ? n : 1) * sizeof *tmp)) ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for a conversion row")));
     for (int c = 0; c < 3; c++) {
         const void *slab = NULL;
         hx_moments mom;
@@ -460,17 +450,24 @@ static hx_status velocity_one_pass(run_t *R, hx_desc *dv, const hx_spectrum *sp,
         t = MPI_Wtime();
         HX_TRY(hx_io_write_component(R->io, R->vel_id, c, slab));
         R->res.t_write[c] = MPI_Wtime() - t;
-        hx_flow_add(fl, g, c, as_doubles(slab, r->precision, n, tmp), R->rho, &R->cloud);
+        if (R->rho) hx_flow_add(fl, g, c, slab, r->precision, R->rho, &R->cloud);
         hx_diag_set_moments(diag, c, &mom);
         sum2 += diag->rms[c] * diag->rms[c];
+        var += diag->rms[c] * diag->rms[c] - diag->mean[c] * diag->mean[c];
         R->res.mean[c] = diag->mean[c];
         hx_log_say(R->log, HX_LOG_INFO, "velocity_%c: synthesized in %.2f s, written in %.2f s", "xyz"[c],
                    R->res.t_synth[c], R->res.t_write[c]);
     }
-    HX_TRY(measure_state(R, fl));
+    if (R->rho) HX_TRY(measure_state(R, fl));
+    else { /* no density: the dispersion is the volume one, read off the moments of the values */
+        R->res.sigma_3d = sqrt(fmax(var, 0.0));
+        R->res.mach = R->res.sigma_3d / r->code.sound_speed;
+        R->res.region_mass = R->res.virial = R->res.momentum_rel = R->res.angular_rel = NAN;
+        R->res.radius = R->cloud.radius;
+        for (int a = 0; a < 3; a++) R->res.momentum[a] = R->res.angular[a] = NAN;
+    }
     R->res.vrms_x = sqrt(sum2); /* the moments of the values written, as before */
 fail:
-    free(tmp);
     return st;
 }
 
@@ -492,7 +489,7 @@ static hx_status velocity_shaped(run_t *R, hx_desc *dv, const hx_spectrum *sp, h
         HX_TRY(hx_flow_begin(&sums, g, R->rho, &R->cloud, r->window, R->comm));
         for (int c = 0; c < 3; c++) {
             HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
-            hx_flow_add(&sums, g, c, slab, R->rho, &R->cloud);
+            hx_flow_add(&sums, g, c, slab, HX_PREC_DOUBLE, R->rho, &R->cloud);
         }
         HX_TRY(hx_flow_reduce(&sums, R->comm));
         HX_TRY(hx_error_agree(R->comm, hx_flow_correction(&sums, r->remove_bulk, r->remove_rotation, vb, K)));
@@ -502,7 +499,7 @@ static hx_status velocity_shaped(run_t *R, hx_desc *dv, const hx_spectrum *sp, h
     for (int c = 0; c < 3; c++) {
         HX_TRY(hx_field_component(R->f, c, HX_PREC_DOUBLE, &slab, NULL));
         shape_component(R, c, origin, vb, K, (double *)slab);
-        hx_flow_add(&sums, g, c, slab, R->rho, &R->cloud);
+        hx_flow_add(&sums, g, c, slab, HX_PREC_DOUBLE, R->rho, &R->cloud);
     }
     HX_TRY(hx_flow_reduce(&sums, R->comm));
     HX_TRY(hx_error_agree(R->comm, solve_scale(R, &sums, &scale)));
@@ -514,7 +511,7 @@ static hx_status velocity_shaped(run_t *R, hx_desc *dv, const hx_spectrum *sp, h
         double *v = (double *)slab;
         shape_component(R, c, origin, vb, K, v);
         for (int64_t i = 0; i < g->nz * g->n[1] * g->n[0]; i++) v[i] *= scale;
-        hx_flow_add(fl, g, c, v, R->rho, &R->cloud);
+        hx_flow_add(fl, g, c, v, HX_PREC_DOUBLE, R->rho, &R->cloud);
         R->res.t_synth[c] = MPI_Wtime() - t;
         t = MPI_Wtime();
         HX_TRY(hx_io_write_doubles(R->io, R->vel_id, c, v));
@@ -670,8 +667,8 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
         HX_TRY(hx_io_add_field(R.io, HX_FIELD_DENSITY, 1, "code_mass/code_length**3", 0, &R.rho_id));
         HX_TRY(make_density(&R));
     }
-    HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, 0, comm));
     R.res.as_written = shaped(r);
+    if (R.rho || R.res.as_written) HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, 0, comm));
     if (R.res.as_written) HX_TRY(velocity_shaped(&R, &dv, sp, &fl));
     else HX_TRY(velocity_one_pass(&R, &dv, sp, &diag, &fl));
 

@@ -43,9 +43,10 @@ typedef struct hx_flow {
 hx_status hx_flow_begin(hx_flow *fl, const hx_grid *g, const double *rho, const hx_cloud *cl, int windowed,
                         MPI_Comm comm);
 
-/* Add component c of this rank's values v (nz * Ny * Nx, x fastest) to the local sums. Not
- * collective; hx_flow_reduce sums over ranks. */
-void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const double *v, const double *rho, const hx_cloud *cl);
+/* Add component c of this rank's values v (nz * Ny * Nx, x fastest; float or double as prec
+ * says) to the local sums. Not collective; hx_flow_reduce sums over ranks. */
+void hx_flow_add(hx_flow *fl, const hx_grid *g, int c, const void *v, hx_precision prec, const double *rho,
+                 const hx_cloud *cl);
 
 /* Collective: sum the velocity sums of fl over comm (call once, after the three components). */
 hx_status hx_flow_reduce(hx_flow *fl, MPI_Comm comm);
