@@ -574,8 +574,7 @@ static hx_status make_magnetic(run_t *R, const hx_spectrum *sp, int cell_id, int
     res->alfven_mach = b0 > 0 ? res->sigma_3d * sqrt(rho) / b0 : INFINITY;
     hx_desc db = {HX_FIELD_MAGNETIC, 3, "code_magnetic", r->magnetic_spectrum, {HX_MIX_FRACTION, NAN, 0.0, HX_EXACT_TOTAL},
                   brms, r->seed, HX_STREAM_MAGNETIC, HX_AMP_GAUSSIAN, 0, HX_PART_ALL, HX_STAGGER_CELL};
-    hx_spectrum_spec none = r->spectrum; /* no random part: any band, scaled to rms 0 */
-    if (!(brms > 0)) db.spectrum = none;
+    if (!(brms > 0)) db.spectrum = r->spectrum; /* no random part: any validated band, scaled to rms 0 */
     int64_t n = g->nz * g->n[1] * g->n[0];
     for (int pass = 0; pass < 1 + (face_id >= 0); pass++) {
         double t = MPI_Wtime(), s2 = 0;
@@ -598,6 +597,27 @@ static hx_status make_magnetic(run_t *R, const hx_spectrum *sp, int cell_id, int
                    MPI_Wtime() - t);
     }
 fail:
+    return st;
+}
+
+/* The magnetic datasets, their spectrum and the fields, when the recipe asks for a field. */
+static hx_status magnetic_fields(run_t *R)
+{
+    hx_status st = HX_OK;
+    const hx_recipe *r = R->r;
+    hx_spectrum *spb = NULL;
+    int cell_id = -1, face_id = -1;
+    for (int c = 0; c < 3; c++) R->res.b0[c] = NAN;
+    R->res.b_random_rms = R->res.b_rms = R->res.b_face_rms = R->res.beta = R->res.alfven_mach = NAN;
+    if (!hx_recipe_has_magnetic(r)) return HX_OK;
+    HX_TRY(hx_io_add_field(R->io, HX_FIELD_MAGNETIC, 3, "code_magnetic", 0, &cell_id));
+    if (r->faces) HX_TRY(hx_io_add_field(R->io, HX_FIELD_MAGNETIC_FACE, 3, "code_magnetic", 1, &face_id));
+    /* a uniform field alone has no (validated) spectrum of its own: any band serves, scaled to rms 0 */
+    int random = (!isnan(r->random_ratio) && r->random_ratio > 0) || (!isnan(r->random_rms.value) && r->random_rms.value > 0);
+    HX_TRY(hx_spectrum_create(&spb, random ? &r->magnetic_spectrum : &r->spectrum, R->comm));
+    HX_TRY(make_magnetic(R, spb, cell_id, face_id));
+fail:
+    hx_spectrum_destroy(&spb);
     return st;
 }
 
@@ -681,18 +701,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
     if (!R.res.as_written) HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &R.g, r)));
     sum = NULL; /* the magnetic field reuses the synthesis: the velocity's summary is taken */
     if (r->parts) HX_TRY(write_parts(&R, &dv, sp));
-    for (int c = 0; c < 3; c++) R.res.b0[c] = NAN;
-    R.res.b_random_rms = R.res.b_rms = R.res.b_face_rms = R.res.beta = R.res.alfven_mach = NAN;
-    if (hx_recipe_has_magnetic(r)) {
-        hx_spectrum *spb = NULL;
-        int cell_id = -1, face_id = -1;
-        st = hx_io_add_field(R.io, HX_FIELD_MAGNETIC, 3, "code_magnetic", 0, &cell_id);
-        if (st == HX_OK && r->faces) st = hx_io_add_field(R.io, HX_FIELD_MAGNETIC_FACE, 3, "code_magnetic", 1, &face_id);
-        if (st == HX_OK) st = hx_spectrum_create(&spb, (int)r->magnetic_spectrum.shape >= 0 ? &r->magnetic_spectrum : &r->spectrum, comm);
-        if (st == HX_OK) st = make_magnetic(&R, spb, cell_id, face_id);
-        hx_spectrum_destroy(&spb);
-        HX_TRY(st);
-    }
+    HX_TRY(magnetic_fields(&R));
     if (R.res.as_written) {
         hx_field_destroy(&R.f); /* the analysis needs the memory */
         free(R.rho);
