@@ -220,6 +220,18 @@ def body(args, hx, c):
         c.check(f"[{key}] random part rms = 2 uG (random_rms)", abs(rms / 2e-6 - 1) < 1e-12, f"{rms:.6e} G",
                 "recipe semantics")
         c.check(f"[{key}] B0 along z", abs(B0[0]) < 1e-20 and abs(B0[1]) < 1e-20 and B0[2] > 0, str(B0), "recipe")
+    # ---- a uniform field alone (a [magnetic_spectrum] given but no random part): B = B0 in every cell
+    rr = recipe()
+    rr["magnetic"] = {"strength": "5 uG", "direction": "y"}
+    run = hx.make(rr, ranks=2, name="uniform_only")
+    if c.check("make with a uniform field only exits 0", run.ok, run.describe()[:300]):
+        mu = load(run.out)
+        Bg = mu["B"] * mu["units"]["magnetic_unit"]
+        Fg = mu["F"] * mu["units"]["magnetic_unit"]
+        want = np.array([0.0, 5e-6, 0.0])[:, None, None, None]
+        err = max(float(np.max(np.abs(Bg - want))), float(np.max(np.abs(Fg - want))))
+        c.check("uniform field only: every cell and face holds B0 = 5 uG along y", err < 1e-18, f"max |B - B0| {err:.1e} G",
+                "recipe semantics")
     # ---- bad input: one line, exit 2, nothing written
     bad = {
         "strength and beta both": {"magnetic": {"strength": "10 uG", "beta": 1}},
