@@ -511,3 +511,37 @@ def read_png(path):
     return {"width": w, "height": h, "bit_depth": depth, "color_type": ctype,
             "interlace": inter, "raw": raw, "row_bytes": stride, "crc_ok": crc_ok,
             "last_chunk": chunks[-1][0]}
+
+
+# ----------------------------------------------------------------------------
+# the verdict block of `inspect --check --json`
+# ----------------------------------------------------------------------------
+
+SRC_RULE = "verdict rule: |measured - requested| <= tolerance (helmix specification)"
+
+
+def verdict_lines(c, label, run):
+    """The check block follows the verdict rule and the exit code; returns {quantity: line}."""
+    js = run.json
+    if js is None or "check" not in js:
+        c.fail(f"[{label}] JSON holds a check block", run.json_error or run.describe())
+        return {}
+    lines = js["check"]["lines"]
+    bad = [ln["quantity"] for ln in lines if ln["tolerance"] is not None and
+           ln["passed"] is not (abs(ln["measured"] - ln["requested"]) <= ln["tolerance"])]
+    judged = all(ln["passed"] for ln in lines if ln["tolerance"] is not None)
+    c.check(f"[{label}] check lines follow the rule and the exit code", not bad and
+            (run.rc == 0) == judged and js["check"]["passed"] is judged, f"bad={bad} rc={run.rc}", SRC_RULE)
+    return {ln["quantity"]: ln for ln in lines}
+
+
+def expect_lines(c, label, lines, passing=(), failing=()):
+    """Each quantity in passing has a line that passes, each in failing one that fails."""
+    for q in passing:
+        ln = lines.get(q)
+        c.check(f"[{label}] line '{q}' passes", ln is not None and ln["passed"] is True,
+                f"{ln}" if ln else f"absent; lines {sorted(lines)}", SRC_RULE)
+    for q in failing:
+        ln = lines.get(q)
+        c.check(f"[{label}] line '{q}' fails", ln is not None and ln["passed"] is False,
+                f"{ln}" if ln else f"absent; lines {sorted(lines)}", SRC_RULE)

@@ -59,7 +59,6 @@ MH = 1.00782503223 * sc.physical_constants["atomic mass constant"][0] * 1e3  # g
 SRC_NRL = "NRL Plasma Formulary (Huba 2013): v_A = B / sqrt(4 pi rho), beta = 8 pi P / B^2"
 SRC_CODATA = "CODATA 2018 via scipy.constants; m_H = 1.00782503223 u"
 SRC_DIV = "discrete div of a discrete curl vanishes (Yee 1966; Evans & Hawley 1988)"
-SRC_RULE = "verdict rule: |measured - requested| <= tolerance (helmix specification)"
 SRC_SPEC = X.SRC_FFT + "; " + X.SRC_PARSEVAL
 MAGNETIC_LINES = ("mean field B_x", "mean field B_y", "mean field B_z", "rms of the random field",
                   "plasma beta as made", "Alfven Mach number as made", "divergence of B (spectral)",
@@ -199,32 +198,6 @@ def compare_magnetic(c, label, m, ref, rtol=1e-10, div_abs=None):
                     f"inspect={got} numpy={want:.3e}", src)
 
 
-def verdict_lines(c, label, run):
-    """The check block follows the verdict rule and the exit code; returns {quantity: line}."""
-    js = run.json
-    if js is None or "check" not in js:
-        c.fail(f"[{label}] JSON holds a check block", run.json_error or run.describe())
-        return {}
-    lines = js["check"]["lines"]
-    bad = [ln["quantity"] for ln in lines if ln["tolerance"] is not None and
-           ln["passed"] is not (abs(ln["measured"] - ln["requested"]) <= ln["tolerance"])]
-    judged = all(ln["passed"] for ln in lines if ln["tolerance"] is not None)
-    c.check(f"[{label}] check lines follow the rule and the exit code", not bad and
-            (run.rc == 0) == judged and js["check"]["passed"] is judged, f"bad={bad} rc={run.rc}", SRC_RULE)
-    return {ln["quantity"]: ln for ln in lines}
-
-
-def expect_lines(c, label, lines, passing=(), failing=()):
-    for q in passing:
-        ln = lines.get(q)
-        c.check(f"[{label}] line '{q}' passes", ln is not None and ln["passed"] is True,
-                f"{ln}" if ln else f"absent; lines {sorted(lines)}", SRC_RULE)
-    for q in failing:
-        ln = lines.get(q)
-        c.check(f"[{label}] line '{q}' fails", ln is not None and ln["passed"] is False,
-                f"{ln}" if ln else f"absent; lines {sorted(lines)}", SRC_RULE)
-
-
 def read_made(path):
     with h5py.File(path, "r") as f:
         g = f[GRID]
@@ -266,8 +239,8 @@ def made(c, hx):
         r = X.inspect(hx, path, "--check", ranks=ranks)
         c.check(f"[made, {ranks} rank(s)] inspect --check exits 0", r.rc == 0,
                 f"rc={r.rc}" + ("" if r.rc == 0 else "\n" + r.describe() + "\n" + r.stdout[-3000:]))
-        lines = verdict_lines(c, f"made {ranks}", r)
-        expect_lines(c, f"made {ranks}", lines, passing=MAGNETIC_LINES)
+        lines = X.verdict_lines(c, f"made {ranks}", r)
+        X.expect_lines(c, f"made {ranks}", lines, passing=MAGNETIC_LINES)
         if r.json is not None:
             runs[ranks] = r.json
     if 1 not in runs:
@@ -331,8 +304,8 @@ def altered(c, hx, path, m):
             f[GRID]["magnetic_" + a][...] *= 1.1
     r = X.inspect(hx, p1, "--check", ranks=0)
     c.check("[B x 1.1] inspect --check exits 1", r.rc == 1, f"rc={r.rc}" + ("" if r.rc == 1 else r.describe()))
-    lines = verdict_lines(c, "B x 1.1", r)
-    expect_lines(c, "B x 1.1", lines, failing=("mean field B_x", "mean field B_y", "rms of the random field",
+    lines = X.verdict_lines(c, "B x 1.1", r)
+    X.expect_lines(c, "B x 1.1", lines, failing=("mean field B_x", "mean field B_y", "rms of the random field",
                                                 "plasma beta as made", "Alfven Mach number as made"),
                  passing=("mean field B_z", "divergence of B (spectral)", "divergence of B (faces)",
                           "Mach number", "dispersion sigma_3D as made"))
@@ -355,8 +328,8 @@ def altered(c, hx, path, m):
         r = X.inspect(hx, p2, "--check", ranks=ranks)
         tag = f"one face value, {max(ranks, 1)} rank(s)"
         c.check(f"[{tag}] inspect --check exits 1", r.rc == 1, f"rc={r.rc}" + ("" if r.rc == 1 else r.describe()))
-        lines = verdict_lines(c, tag, r)
-        expect_lines(c, tag, lines, failing=("divergence of B (faces)",),
+        lines = X.verdict_lines(c, tag, r)
+        X.expect_lines(c, tag, lines, failing=("divergence of B (faces)",),
                      passing=("divergence of B (spectral)", "mean field B_x", "rms of the random field",
                               "plasma beta as made"))
         f = (r.json or {}).get("magnetic", {}) or {}

@@ -54,7 +54,6 @@ SRC_BM = "alpha_vir = 5 sigma_1D^2 R / (G M), Bertoldi & McKee 1992, ApJ 395, 14
 SRC_MASS = "mass-weighted dispersion about the mass-weighted mean (common practice)"
 SRC_LN = "mean and population std of ln rho, numpy.mean / numpy.std (numpy documentation)"
 SRC_MOM = "net momentum sum rho v dV (common practice)"
-SRC_RULE = "verdict rule: |measured - requested| <= tolerance (helmix specification)"
 SRC_HELM = X.SRC_HELM
 GRID = "/data/grid_0000000000"
 
@@ -125,32 +124,6 @@ def compare_state(c, label, st, ref, rtol=1e-10, skip=()):
         c.check(f"[{label}] state.{key} = numpy (rtol {rtol:g})", ok, det, srcs.get(key, "common practice"))
 
 
-def verdict_lines(c, label, run):
-    """The check block follows the verdict rule and the exit code; returns {quantity: line}."""
-    js = run.json
-    if js is None or "check" not in js:
-        c.fail(f"[{label}] JSON holds a check block", run.json_error or run.describe())
-        return {}
-    lines = js["check"]["lines"]
-    bad = [ln["quantity"] for ln in lines if ln["tolerance"] is not None and
-           ln["passed"] is not (abs(ln["measured"] - ln["requested"]) <= ln["tolerance"])]
-    judged = all(ln["passed"] for ln in lines if ln["tolerance"] is not None)
-    c.check(f"[{label}] check lines follow the rule and the exit code", not bad and
-            (run.rc == 0) == judged and js["check"]["passed"] is judged, f"bad={bad} rc={run.rc}", SRC_RULE)
-    return {ln["quantity"]: ln for ln in lines}
-
-
-def expect_lines(c, label, lines, passing=(), failing=()):
-    for q in passing:
-        ln = lines.get(q)
-        c.check(f"[{label}] line '{q}' passes", ln is not None and ln["passed"] is True,
-                f"{ln}" if ln else f"absent; lines {sorted(lines)}", SRC_RULE)
-    for q in failing:
-        ln = lines.get(q)
-        c.check(f"[{label}] line '{q}' fails", ln is not None and ln["passed"] is False,
-                f"{ln}" if ln else f"absent; lines {sorted(lines)}", SRC_RULE)
-
-
 def read_file(path):
     with h5py.File(path, "r") as f:
         g = f[GRID]
@@ -168,7 +141,7 @@ def check_run(c, hx, label, path, opts=(), want_rc=0):
     run = X.inspect(hx, path, "--check", *opts, ranks=2 if want_rc == 0 else 0)
     c.check(f"[{label}] inspect --check exits {want_rc}", run.rc == want_rc,
             f"rc={run.rc}" + ("" if run.rc == want_rc else "\n" + run.describe() + "\n" + run.stdout[-2500:]))
-    return run, verdict_lines(c, label, run) if run.rc in (0, 1) else {}
+    return run, X.verdict_lines(c, label, run) if run.rc in (0, 1) else {}
 
 
 # ----------------------------------------------------------------------------
@@ -301,7 +274,7 @@ def cloud(c, hx):
         if isinstance(run.json["state"], dict):
             c.check("[cloud] region = the recorded cloud", run.json["state"]["cloud"] is True and
                     run.json["state"]["radius"] == st["cloud_radius"], str(run.json["state"]["cloud_center"]))
-    expect_lines(c, "cloud", lines, passing=("virial parameter", "Mach number as made", "dispersion sigma_3D as made",
+    X.expect_lines(c, "cloud", lines, passing=("virial parameter", "Mach number as made", "dispersion sigma_3D as made",
                                              "sigma_s of ln rho as made", "mean density as made",
                                              "net momentum |P|/(M vrms)", "rms velocity"))
     ln = lines.get("virial parameter")
@@ -312,20 +285,20 @@ def cloud(c, hx):
     # velocity x 1.1: sigma_3D and Mach x 1.1, alpha_vir x 1.21; the density lines still pass
     p = altered(hx, mk.out, "cloud_v11.h5", {"velocity_" + a: (lambda x: 1.1 * x) for a in "xyz"})
     run, lines = check_run(c, hx, "cloud velocity x 1.1", p, want_rc=1)
-    expect_lines(c, "cloud velocity x 1.1", lines,
+    X.expect_lines(c, "cloud velocity x 1.1", lines,
                  passing=("sigma_s of ln rho as made", "mean density as made", "net momentum |P|/(M vrms)"),
                  failing=("Mach number as made", "virial parameter", "dispersion sigma_3D as made"))
     # density x 1.1: alpha_vir / 1.1 and the mean density fail; Mach and sigma_s do not move
     p = altered(hx, mk.out, "cloud_rho11.h5", {"density": lambda x: 1.1 * x})
     run, lines = check_run(c, hx, "cloud density x 1.1", p, want_rc=1)
-    expect_lines(c, "cloud density x 1.1", lines,
+    X.expect_lines(c, "cloud density x 1.1", lines,
                  passing=("Mach number as made", "sigma_s of ln rho as made", "net momentum |P|/(M vrms)"),
                  failing=("virial parameter", "mean density as made"))
     # a uniform flow of 1 % of vrms: the net momentum fails, the dispersion about the mean does not
     vb = 0.01 * ref["velocity_rms"]
     p = altered(hx, mk.out, "cloud_bulk.h5", {"velocity_x": lambda x: x + vb})
     run, lines = check_run(c, hx, "cloud with a uniform flow", p, want_rc=1)
-    expect_lines(c, "cloud with a uniform flow", lines, passing=("Mach number as made", "virial parameter"),
+    X.expect_lines(c, "cloud with a uniform flow", lines, passing=("Mach number as made", "virial parameter"),
                  failing=("net momentum |P|/(M vrms)",))
 
 
@@ -366,7 +339,7 @@ def lognormal(c, hx):
                 js["mass_weighted"] is True and abs(js["energy"]["compressive_fraction"] - share_w) < 1e-10,
                 f"inspect {js['energy']['compressive_fraction']:.12f} numpy {share_w:.12f}", SRC_HELM)
         compare_state(c, "lognormal", js["state"], state_reference(v, rho, box, cs=st["sound_speed"], G=st["G_code"]))
-    expect_lines(c, "lognormal", lines, passing=("compressive share as drawn", "sigma_s of ln rho", "rms velocity",
+    X.expect_lines(c, "lognormal", lines, passing=("compressive share as drawn", "sigma_s of ln rho", "rms velocity",
                                                  "net momentum as made", "dispersion sigma_3D as made"))
     ln = lines.get("sigma_s of ln rho")
     if ln:
@@ -416,7 +389,7 @@ def windowed(c, hx):
     run, lines = check_run(c, hx, "windowed", mk.out)
     if run.json:
         compare_state(c, "windowed", run.json["state"], ref)
-    expect_lines(c, "windowed", lines, passing=("Mach number", "virial parameter as made", "net momentum |P|/(M vrms)",
+    X.expect_lines(c, "windowed", lines, passing=("Mach number", "virial parameter as made", "net momentum |P|/(M vrms)",
                                                 "sigma_s of ln rho as made", "compressive share as drawn"))
     ln = lines.get("spectral slope")
     c.check("[windowed] the slope of a windowed velocity is information only (tolerance null)",
