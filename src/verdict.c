@@ -31,36 +31,77 @@ void hx_request_defaults(hx_request *q, int single, int fixed_amplitudes)
     q->tol_slope = fixed_amplitudes ? 0.05 : 0.15;
 }
 
+/* The keys of --expect and --tolerance: where the value goes and what it must be. A value of
+ * --expect is judged like the same value recorded in a helmix file (asked for). */
+typedef struct expect_key {
+    const char *name;
+    double lo;      /* --expect: the value must exceed lo (or equal it when closed) */
+    int closed;
+    double hi;      /* and be at most hi */
+} expect_key;
+
+static const expect_key expect_keys[] = {
+    {"fraction", 0, 1, 1}, {"slope", -INFINITY, 0, INFINITY}, {"vrms", 0, 0, INFINITY},
+    {"mach", 0, 0, INFINITY}, {"virial", 0, 0, INFINITY}, {"sigma_s", 0, 1, INFINITY},
+    {"beta", 0, 0, INFINITY}, {"alfven_mach", 0, 0, INFINITY},
+};
+#define EXPECT_KEYS "fraction, slope, vrms, mach, virial, sigma_s, beta, alfven_mach"
+#define TOLERANCE_KEYS "fraction, slope, vrms, state, magnetic, divergence"
+
+static hx_status set_expected(hx_request *q, const char *key, double v)
+{
+    if (!strcmp(key, "fraction")) q->has_fraction = 1, q->fraction = v;
+    else if (!strcmp(key, "slope")) q->has_slope = 1, q->slope = v;
+    else if (!strcmp(key, "vrms")) q->has_vrms = 1, q->vrms = v;
+    else if (!strcmp(key, "mach")) q->mach = v, q->asked_mach = 1;
+    else if (!strcmp(key, "virial")) q->virial = v, q->asked_virial = 1;
+    else if (!strcmp(key, "sigma_s")) q->sigma_s = v, q->asked_sigma_s = 1;
+    else if (!strcmp(key, "beta")) q->beta = v, q->asked_beta = 1, q->has_magnetic = 1;
+    else q->alfven_mach = v, q->asked_alfven_mach = 1, q->has_magnetic = 1;
+    return HX_OK;
+}
+
+static int set_tolerance(hx_request *q, const char *key, double v)
+{
+    if (!strcmp(key, "fraction")) q->tol_fraction = v;
+    else if (!strcmp(key, "slope")) q->tol_slope = v;
+    else if (!strcmp(key, "vrms")) q->tol_vrms = v;
+    else if (!strcmp(key, "state")) q->tol_state = q->tol_momentum = v;
+    else if (!strcmp(key, "magnetic")) q->tol_magnetic = v;
+    else if (!strcmp(key, "divergence")) q->tol_divergence = v;
+    else return 0;
+    return 1;
+}
+
 hx_status hx_request_parse(hx_request *q, const char *text, int tolerances, const char *option)
 {
     char buf[512];
+    const char *keys = tolerances ? TOLERANCE_KEYS : EXPECT_KEYS;
     if (strlen(text) >= sizeof buf) return hx_error_set(HX_ERR_ARG, "%s: value too long", option);
     snprintf(buf, sizeof buf, "%s", text);
     char *save = NULL;
     for (char *tok = strtok_r(buf, ",", &save); tok; tok = strtok_r(NULL, ",", &save)) {
         char *eq = strchr(tok, '='), *end = NULL;
-        if (!eq) return hx_error_set(HX_ERR_ARG, "%s %s: '%s' is not key=value (keys: fraction, slope, vrms)", option, text, tok);
+        if (!eq) return hx_error_set(HX_ERR_ARG, "%s %s: '%s' is not key=value (keys: %s)", option, text, tok, keys);
         *eq = '\0';
         double v = strtod(eq + 1, &end);
         if (end == eq + 1 || *end || !isfinite(v))
             return hx_error_set(HX_ERR_ARG, "%s %s: '%s' for %s is not a number", option, text, eq + 1, tok);
-        int is_f = !strcmp(tok, "fraction"), is_s = !strcmp(tok, "slope"), is_v = !strcmp(tok, "vrms");
-        if (!is_f && !is_s && !is_v)
-            return hx_error_set(HX_ERR_ARG, "%s %s: unknown key '%s' (keys: fraction, slope, vrms)", option, text, tok);
         if (tolerances) {
             if (!(v >= 0)) return hx_error_set(HX_ERR_ARG, "%s %s: tolerance for %s must be >= 0", option, text, tok);
-            if (is_f) q->tol_fraction = v;
-            if (is_s) q->tol_slope = v;
-            if (is_v) q->tol_vrms = v;
-        } else if (is_f) {
-            if (!(v >= 0 && v <= 1)) return hx_error_set(HX_ERR_ARG, "%s %s: fraction must be in [0, 1]", option, text);
-            q->has_fraction = 1, q->fraction = v;
-        } else if (is_s) {
-            q->has_slope = 1, q->slope = v;
-        } else {
-            if (!(v > 0)) return hx_error_set(HX_ERR_ARG, "%s %s: vrms must be > 0", option, text);
-            q->has_vrms = 1, q->vrms = v;
+            if (!set_tolerance(q, tok, v))
+                return hx_error_set(HX_ERR_ARG, "%s %s: unknown key '%s' (keys: %s)", option, text, tok, keys);
+            continue;
         }
+        const expect_key *k = NULL;
+        for (size_t i = 0; i < sizeof expect_keys / sizeof expect_keys[0] && !k; i++)
+            if (!strcmp(tok, expect_keys[i].name)) k = &expect_keys[i];
+        if (!k) return hx_error_set(HX_ERR_ARG, "%s %s: unknown key '%s' (keys: %s)", option, text, tok, keys);
+        if (!((k->closed ? v >= k->lo : v > k->lo) && v <= k->hi)) {
+            if (isfinite(k->hi)) return hx_error_set(HX_ERR_ARG, "%s %s: %s must be in [%g, %g]", option, text, tok, k->lo, k->hi);
+            return hx_error_set(HX_ERR_ARG, "%s %s: %s must be %s %g", option, text, tok, k->closed ? ">=" : ">", k->lo);
+        }
+        set_expected(q, tok, v);
     }
     return HX_OK;
 }
@@ -117,10 +158,12 @@ static void judge_magnetic(const hx_request *q, const hx_diag *d, hx_verdict *v)
      * rms of B when there is no uniform field */
     const double tmean = t * (b0 > 0 ? b0 : m->field.rms3);
     const char *name[3] = {"mean field B_x", "mean field B_y", "mean field B_z"};
-    for (int c = 0; c < 3; c++)
+    /* the field make recorded; --expect of beta or alfven_mach alone records none */
+    for (int c = 0; c < 3 && isfinite(b0); c++)
         add(v, name[c], q->b0[c], m->field.mean[c], tmean, fabs(m->field.mean[c] - q->b0[c]) <= tmean);
     const double trand = t * (q->b_random_rms > 0 ? q->b_random_rms : b0 > 0 ? b0 : m->field.rms3);
-    add(v, "rms of the random field", q->b_random_rms, m->random_rms, trand, fabs(m->random_rms - q->b_random_rms) <= trand);
+    if (isfinite(q->b_random_rms))
+        add(v, "rms of the random field", q->b_random_rms, m->random_rms, trand, fabs(m->random_rms - q->b_random_rms) <= trand);
     if (isfinite(q->beta)) add_state(v, "plasma beta", q->asked_beta, q->beta, m->beta, t * fabs(q->beta));
     if (isfinite(q->alfven_mach))
         add_state(v, "Alfven Mach number", q->asked_alfven_mach, q->alfven_mach, m->alfven_mach, t * fabs(q->alfven_mach));

@@ -64,8 +64,12 @@ static void inspect_usage(FILE *out)
             "                          magnetic field's mean, random rms, beta and Alfven Mach number\n"
             "                          and zero divergence when make wrote one), or with\n"
             "                          --expect; exit 0 if every line passes, 1 if not\n"
-            "  --expect fraction=F,slope=S,vrms=V   what the cube should hold (any subset)\n"
-            "  --tolerance fraction=F,slope=S,vrms=V  tolerances (vrms relative)\n"
+            "  --expect KEY=V,...      what the cube should hold, any subset of fraction, slope, vrms,\n"
+            "                          mach, virial, sigma_s (the state in a density), beta,\n"
+            "                          alfven_mach (the mean magnetic field)\n"
+            "  --tolerance KEY=T,...   tolerances: fraction, slope, vrms (relative), state (relative),\n"
+            "                          magnetic (relative), divergence; with --expect the defaults are\n"
+            "                          1 %% (0.01) for fraction, vrms, state and magnetic, 0.15 for slope\n"
             "output:\n"
             "  --json FILE             every number as JSON\n"
             "  --csv FILE              per-shell table\n"
@@ -212,13 +216,18 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
     /* --expect replaces what the file recorded; --tolerance adjusts either */
     if (a.expect) {
         hx_request_defaults(&q, q.single, 0);
-        q.tol_fraction = 0.01, q.tol_vrms = 0.01;
+        q.tol_fraction = 0.01, q.tol_vrms = 0.01; /* what a user expects of a cube: 1 %, not round-off */
+        q.tol_state = 0.01, q.tol_magnetic = 0.01;
         st = hx_request_parse(&q, a.expect, 0, "--expect");
     }
     if (st == HX_OK && a.tolerance) st = hx_request_parse(&q, a.tolerance, 1, "--tolerance");
     hx_verdict v;
     hx_verdict_judge(&q, &d, &v);
-    if (st == HX_OK && a.check && v.n == 0)
+    if (st == HX_OK && a.check && v.n == 0 && a.expect)
+        st = hx_error_set(HX_ERR_ARG, "--expect %s: nothing asked for was measured in %s (mach, virial and sigma_s need a "
+                                      "density: --density PATH; beta and alfven_mach a magnetic field: --magnetic)",
+                          a.expect, a.o.cube.file);
+    else if (st == HX_OK && a.check && v.n == 0)
         st = hx_error_set(HX_ERR_ARG, "--check: %s records no request; say what to expect with --expect", a.o.cube.file);
     if (st == HX_OK && rank == 0) st = outputs(&a, &d, &q, &v);
     st = hx_error_agree(comm, st);

@@ -202,6 +202,19 @@ def foreign(c, hx):
                 "reductions in double (helmix specification)")
     else:
         c.fail("[foreign] inspect on 1 and 3 ranks exits 0", r1.describe() + r3.describe())
+    # --expect judges a foreign cube's state: the values built in pass, 10 % off fails
+    exp = f"mach={mach},sigma_s={sigma_s},virial={built['virial']!r}"
+    run = X.inspect(hx, path, *base, "--sound-speed", cs, "--gravity", G, "--check", "--expect", exp, ranks=2)
+    lines = X.verdict_lines(c, "foreign --expect", run)
+    X.expect_lines(c, "foreign --expect", lines, passing=("Mach number", "virial parameter", "sigma_s of ln rho"))
+    c.check("[foreign --expect] exit 0 when the state is what was built in", run.rc == 0, run.describe()[:300],
+            X.SRC_RULE)
+    run = X.inspect(hx, path, *base, "--sound-speed", cs, "--gravity", G, "--check", "--expect", f"mach={1.1 * mach}",
+                    ranks=2)
+    lines = X.verdict_lines(c, "foreign --expect 1.1 mach", run)
+    X.expect_lines(c, "foreign --expect 1.1 mach", lines, failing=("Mach number",))
+    c.check("[foreign --expect] exit 1 when the Mach number asked for is 10 % off", run.rc == 1, f"rc {run.rc}",
+            X.SRC_RULE)
     # no sound speed, no G: no Mach number, no virial parameter
     run = X.inspect(hx, path, *base, ranks=2)
     if c.check("[foreign] inspect --density alone exits 0", run.ok, "" if run.ok else run.describe()):

@@ -333,10 +333,45 @@ static void test_magnetic(void)
     CHECK(!q.has_magnetic && v.n == 0);
 }
 
+/* --expect judges a foreign cube's state and magnetic numbers like recorded requests
+ * (helmix specification: "--expect" names what the cube should hold). */
+static void test_expect_state(void)
+{
+    hx_request q;
+    hx_verdict v;
+    hx_request_defaults(&q, 0, 0);
+    CHECK(hx_request_parse(&q, "mach=3.5,virial=1,sigma_s=0.72,beta=0.5,alfven_mach=2", 0, "--expect") == HX_OK);
+    CHECK(q.asked_mach && q.asked_virial && q.asked_sigma_s && q.asked_beta && q.asked_alfven_mach && q.has_magnetic);
+    CHECK(q.mach == 3.5 && q.virial == 1.0 && q.sigma_s == 0.72 && q.beta == 0.5 && q.alfven_mach == 2.0);
+    hx_request_defaults(&q, 0, 0);
+    CHECK(hx_request_parse(&q, "mach=3.5", 0, "--expect") == HX_OK);
+    hx_diag d = state_cube();
+    hx_verdict_judge(&q, &d, &v);
+    int found = 0;
+    for (int i = 0; i < v.n; i++)
+        if (strstr(v.line[i].quantity, "Mach")) {
+            found = 1;
+            CHECK(v.line[i].passed && v.line[i].requested == 3.5);
+        }
+    CHECK(found && v.passed);
+    hx_request_defaults(&q, 0, 0);
+    CHECK(hx_request_parse(&q, "mach=4", 0, "--expect") == HX_OK);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed);
+    CHECK(hx_request_parse(&q, "beta=0", 0, "--expect") == HX_ERR_ARG);
+    CHECK_STR_CONTAINS(hx_error_message(), "beta must be > 0");
+    CHECK(hx_request_parse(&q, "sigma_s=-1", 0, "--expect") == HX_ERR_ARG);
+    CHECK(hx_request_parse(&q, "state=1e-3,magnetic=1e-4,divergence=1e-8", 1, "--tolerance") == HX_OK);
+    CHECK(q.tol_state == 1e-3 && q.tol_momentum == 1e-3 && q.tol_magnetic == 1e-4 && q.tol_divergence == 1e-8);
+    CHECK(hx_request_parse(&q, "mach=1", 1, "--tolerance") == HX_ERR_ARG);
+    CHECK_STR_CONTAINS(hx_error_message(), "keys: fraction, slope, vrms, state, magnetic, divergence");
+}
+
 int main(void)
 {
     test_judge();
     test_parse();
+    test_expect_state();
     test_state();
     test_weighted_rms();
     test_magnetic();
