@@ -40,8 +40,11 @@ struct hx_field {
     const hx_spectrum *sp;
     int nshell;
     double *sol, *comp, *modes, *a, *b; /* per shell */
-    hx_sum *loc;            /* per shell: local sums (NSUM of them, see accumulate), double-double
-                             * so that the reduced sums do not depend on the rank count   */
+    double *plane;          /* per shell: sums over the current k-space plane y (NSUM of them,
+                             * see accumulate); a plane lies on one rank whole, so these are the
+                             * same whatever the rank count                                */
+    hx_sum *loc;            /* the planes' sums added up double-double, so that the reduced sums
+                             * do not depend on how the planes are split over ranks        */
     double *tot;            /* the same sums reduced over the ranks                        */
     int deferred;           /* sums still to be taken during component 0 (exact = none)    */
     double alpha, beta;     /* exact = none: provisional weights of the deferred pass      */
@@ -211,28 +214,40 @@ static void free_shells(hx_field *f)
     free(f->a);
     free(f->b);
     free(f->loc);
+    free(f->plane);
     free(f->tot);
     f->sol = f->comp = f->modes = f->a = f->b = f->tot = NULL;
     f->loc = NULL;
+    f->plane = NULL;
 }
 
 /* Add one mode's unscaled solenoidal and compressive energy and its count to shell sums. */
-static inline void accumulate(hx_sum *loc, int ns, const mode_t_ *m, const double complex w[3], double complex kw)
+static inline void accumulate(double *loc, int ns, const mode_t_ *m, const double complex w[3], double complex kw)
 {
     double p = m->amp * m->amp * m->weight, wpar2 = creal(kw * conj(kw)), w2 = 0;
     for (int c = 0; c < 3; c++) w2 += creal(w[c] * conj(w[c]));
-    hx_sum_add(&loc[m->shell], p * (w2 - wpar2));
-    hx_sum_add(&loc[ns + m->shell], p * wpar2);
-    hx_sum_add(&loc[3 * ns + m->shell], p * m->k * m->k * (w2 - wpar2)); /* for the rms vorticity */
-    hx_sum_add(&loc[4 * ns + m->shell], p * m->k * m->k * wpar2);        /* for the rms divergence */
-    hx_sum_add(&loc[5 * ns + m->shell], p);                              /* expected shell energy, up to a constant */
-    hx_sum_add(&loc[6 * ns + m->shell], p * p);                          /* and its scatter */
+    loc[m->shell] += p * (w2 - wpar2);
+    loc[ns + m->shell] += p * wpar2;
+    loc[3 * ns + m->shell] += p * m->k * m->k * (w2 - wpar2); /* for the rms vorticity */
+    loc[4 * ns + m->shell] += p * m->k * m->k * wpar2;        /* for the rms divergence */
+    loc[5 * ns + m->shell] += p;                              /* expected shell energy, up to a constant */
+    loc[6 * ns + m->shell] += p * p;                          /* and its scatter */
+}
+
+/* Add the current plane's sums to the running double-double sums and clear them. */
+static void flush_plane(hx_field *f)
+{
+    for (int i = 0; i < NSUM * f->nshell; i++)
+        if (f->plane[i] != 0) {
+            hx_sum_add(&f->loc[i], f->plane[i]);
+            f->plane[i] = 0;
+        }
 }
 
 /* Count the Fourier modes of every shell below ns, whether or not they carry power, with the
  * conventions of inspect (Nyquist at -N/2, weight 1 on the kx = 0 and kx = Nx/2 planes), so a
  * mode-count-compensated spectrum means the same in both. */
-static void count_modes(const hx_field *f, hx_sum *modes, int ns)
+static void count_modes(hx_field *f, double *modes, int ns)
 {
     const hx_grid *g = &f->g;
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
@@ -242,8 +257,9 @@ static void count_modes(const hx_field *f, hx_sum *modes, int ns)
             for (ptrdiff_t x = 0; x < g->nxc; x++) {
                 double kx = (double)hx_grid_freq(x, g->n[0]) * hx_grid_kunit(g, 0), k2 = b2 + kx * kx;
                 int s = (int)(sqrt(k2) + 0.5);
-                if (k2 > 0 && s < ns) hx_sum_add(&modes[s], (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0);
+                if (k2 > 0 && s < ns) modes[s] += (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
             }
+            if (z == g->n[2] - 1) flush_plane(f);
         }
 }
 
@@ -261,7 +277,7 @@ static hx_status finish_mix(hx_field *f)
 {
     hx_status st = HX_OK;
     int ns = f->nshell;
-    count_modes(f, f->loc + 2 * ns, ns);
+    count_modes(f, f->plane + 2 * ns, ns);
     HX_TRY(hx_sum_allreduce(f->loc, NSUM * ns, f->comm));
     for (int i = 0; i < NSUM * ns; i++) f->tot[i] = hx_sum_value(&f->loc[i]);
     memcpy(f->sol, f->tot, (size_t)ns * sizeof *f->sol);
@@ -303,6 +319,7 @@ hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
     HX_ALLOC(f->a, ns);
     HX_ALLOC(f->b, ns);
     HX_ALLOC(f->loc, NSUM * (size_t)ns);
+    HX_ALLOC(f->plane, NSUM * (size_t)ns);
     HX_ALLOC(f->tot, NSUM * (size_t)ns);
     /* exact = none needs no look-ahead: the factors are fixed weights up to one global
      * scale, so the sums ride along with the first component and the scale is applied to it
@@ -320,8 +337,9 @@ hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
             for (int i = 0; i < n; i++) {
                 double complex w[3], kw;
                 draws_of(f, i, w, &kw);
-                accumulate(f->loc, ns, &f->rm[i], w, kw);
+                accumulate(f->plane, ns, &f->rm[i], w, kw);
             }
+            if (z == g->n[2] - 1) flush_plane(f);
         }
     f->t_draw += MPI_Wtime() - t0;
     st = finish_mix(f);
@@ -332,8 +350,16 @@ fail:
 
 const hx_field_summary *hx_field_summary_get(const hx_field *f) { return f->ready ? &f->sum : NULL; }
 
-/* Component c of mode m's coefficient, from the draws w, k_hat . w and the shell factors. The
- * whole field is A (a P_perp w + b P_par w); a part keeps one of the two terms. A face-centred
+/* Component c of the whole field's coefficient of mode m, A (a P_perp w + b P_par w), from the
+ * draws w, k_hat . w and the shell factors; this order of operations keeps earlier files bit
+ * for bit. */
+static inline double complex whole(const mode_t_ *m, int c, const double complex w[3], double complex kw, double a,
+                                   double b)
+{
+    return m->amp * (a * w[c] + (b - a) * m->khat[c] * kw);
+}
+
+/* The same for a part or a face-centred field: a part keeps one of the two terms. A face-centred
  * component is that of the discrete curl of the potential A_hat = i k x u / k^2 on cell edges:
  * i K x A_hat = (u (K . k) - k (K . u)) / k^2, with K_a = (2/dx_a) sin(k_a dx_a / 2) the
  * wavenumber of the staggered difference (u solenoidal, so K = k gives u back). */
@@ -341,18 +367,15 @@ static inline double complex coefficient(const hx_field *f, const mode_t_ *m, in
                                          double complex kw, double a, double b)
 {
     const hx_desc *d = f->d;
-    if (d->stagger == HX_STAGGER_CELL) {
-        if (d->part == HX_PART_SOLENOIDAL) return m->amp * (a * (w[c] - m->khat[c] * kw));
-        if (d->part == HX_PART_COMPRESSIVE) return m->amp * (b * m->khat[c] * kw);
-        return m->amp * (a * w[c] + (b - a) * m->khat[c] * kw); /* this order keeps earlier files bit for bit */
-    }
+    if (d->stagger == HX_STAGGER_CELL) /* a part (the whole field takes whole()) */
+        return d->part == HX_PART_SOLENOIDAL ? m->amp * (a * (w[c] - m->khat[c] * kw)) : m->amp * (b * m->khat[c] * kw);
     const hx_grid *g = &f->g;
     double K[3] = {f->kd[0][m->n[0]], f->kd[1][m->n[1] < 0 ? m->n[1] + g->n[1] : m->n[1]],
                    f->kd[2][m->n[2] < 0 ? m->n[2] + g->n[2] : m->n[2]]};
     double kp = m->k * 2.0 * M_PI / g->lmax, kk = 0; /* physical |k|, K . k_hat */
     double complex u[3], ku = 0;
     for (int j = 0; j < 3; j++) {
-        u[j] = m->amp * (a * w[j] + (b - a) * m->khat[j] * kw);
+        u[j] = whole(m, j, w, kw, a, b);
         kk += K[j] * m->khat[j];
         ku += K[j] * u[j];
     }
@@ -366,6 +389,7 @@ static double fill(hx_field *f, int c, int sums)
 {
     const hx_grid *g = &f->g;
     int face = f->d->stagger == HX_STAGGER_FACE;
+    int plain = !face && f->d->part == HX_PART_ALL; /* the common case: the whole field at cell centres */
     double power = 0; /* sum over both halves of |u_c|^2: the variance of component c */
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
         for (ptrdiff_t z = 0; z < g->n[2]; z++) {
@@ -380,12 +404,14 @@ static double fill(hx_field *f, int c, int sums)
                 ptrdiff_t x = f->rx[i];
                 double complex w[3], kw;
                 draws_of(f, i, w, &kw);
-                if (sums) accumulate(f->loc, f->nshell, m, w, kw);
-                double complex u = coefficient(f, m, c, w, kw, f->a[m->shell], f->b[m->shell]);
+                if (sums) accumulate(f->plane, f->nshell, m, w, kw);
+                double a = f->a[m->shell], b = f->b[m->shell];
+                double complex u = plain ? whole(m, c, w, kw, a, b) : coefficient(f, m, c, w, kw, a, b);
                 double complex px = face && c == 0 ? 1.0 : f->ph[0][2 * x] + I * f->ph[0][2 * x + 1];
                 row[x] = u * pyz * px;
                 power += m->weight * creal(u * conj(u));
             }
+            if (sums && z == g->n[2] - 1) flush_plane(f);
         }
     return power;
 }
