@@ -339,11 +339,16 @@ fail:
 /* The velocity needs real-space shaping when the cloud changes it (window, removal of bulk flow
  * or rotation, mass weighting) or when its amplitude is a mass-weighted dispersion of a
  * non-uniform density. Otherwise the k-space normalisation is exact and one pass suffices. */
-static int shaped(const hx_recipe *r)
+int hx_make_shaped(const hx_recipe *r)
 {
     int uniform = r->density_model == HX_DENSITY_NONE || r->density_model == HX_DENSITY_UNIFORM;
     return r->window || r->remove_bulk || r->remove_rotation || r->weight == HX_WEIGHT_MASS ||
            (!uniform && r->amplitude_by != HX_AMPLITUDE_VRMS);
+}
+
+int hx_make_needs_doubles(const hx_recipe *r)
+{
+    return r->density_model != HX_DENSITY_NONE || hx_make_shaped(r) || hx_recipe_has_magnetic(r);
 }
 
 /* The rms of the one-pass velocity: the asked dispersion is the volume rms of a zero-mean field
@@ -651,7 +656,8 @@ fail:
     return st;
 }
 
-hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm comm, hx_make_result *res_out)
+hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, const hx_log *log, MPI_Comm comm,
+                      hx_make_result *res_out)
 {
     hx_status st = HX_OK;
     run_t R;
@@ -687,7 +693,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm
         HX_TRY(hx_io_add_field(R.io, HX_FIELD_DENSITY, 1, "code_mass/code_length**3", 0, &R.rho_id));
         HX_TRY(make_density(&R));
     }
-    R.res.as_written = shaped(r);
+    R.res.as_written = hx_make_shaped(r);
     if (R.rho || R.res.as_written) HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, 0, comm));
     if (R.res.as_written) HX_TRY(velocity_shaped(&R, &dv, sp, &fl));
     else HX_TRY(velocity_one_pass(&R, &dv, sp, &diag, &fl));

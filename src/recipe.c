@@ -159,6 +159,8 @@ static const char *const shape_names[] = {"power", "band", "table", NULL};
 static const char *const exact_names[] = {"none", "total", "shell", NULL};
 static const char *const amp_names[] = {"gaussian", "fixed", NULL};
 static const char *const prec_names[] = {"single", "double", NULL};
+static const char *const compute_names[] = {"single", "double", "auto", NULL};
+static const char *const draws_names[] = {"auto", "keep", "regenerate", NULL};
 static const char *const model_names[] = {"none", "uniform", "sphere", "bonnor-ebert", "lognormal", NULL};
 static const char *const weight_names[] = {"volume", "mass", NULL};
 static const char *const by_names[] = {"vrms", "mach", "virial", "linewidth", NULL};
@@ -589,6 +591,22 @@ static const key keys[] = {
      "velocity_compressive_x|y|z, which add up to the velocity mode by mode (for testing decomposition tools)\n"
      "Only for a velocity the cloud does not shape (no window, removal or mass weighting).",
      0, 0, 0},
+    {ENUM("output", "compute", compute, compute_names, "one of auto, single, double"), "auto", NULL, NULL, NULL,
+     "precision of the synthesis (draws are always made in double, then the spectrum is filled and\n"
+     "transformed in this precision); auto: that of the file. single halves the memory and the transform\n"
+     "time of a single-precision file; double reproduces files written before helmix 0.2 bit for bit",
+     0, 0, 0},
+    {ENUM("output", "draws", draws, draws_names, "one of auto, keep, regenerate"), "auto", NULL, NULL, NULL,
+     "keep every mode's random draws in memory between the passes over k space, or regenerate them\n"
+     "for each component (the output is bit-identical either way); auto keeps them when the plan says\n"
+     "they fit (helmix plan shows the memory of both)",
+     0, 0, 0},
+    {REAL("output", "alignment", alignment, R_NONNEG, "a number of bytes >= 0"), "0", NULL, NULL, NULL,
+     "align every dataset of at least this size to a multiple of it in the file (set it to the file\n"
+     "system's block or stripe size, e.g. 1048576 on Lustre); 0 keeps HDF5's packing", 0, 0, 0},
+    {OTHER("output", "io_hints", K_PATH, io_hints, "none, or MPI-IO hints key=value,key=value"), "none", NULL, NULL, NULL,
+     "MPI-IO hints passed to the file open, e.g. striping_factor=16,cb_nodes=8 (names are those of\n"
+     "the MPI library; unknown hints are ignored by MPI); none for no hints", 0, 0, 0},
 };
 #define NKEYS ((int)(sizeof keys / sizeof keys[0]))
 _Static_assert(sizeof keys / sizeof keys[0] <= HX_RECIPE_MAX_KEYS, "hx_recipe.line has room for every key");
@@ -1158,7 +1176,7 @@ static hx_status check_magnetic(hx_recipe *r)
 
 int hx_recipe_has_magnetic(const hx_recipe *r) { return r->magnetic_by != HX_MAGNETIC_NONE; }
 
-static hx_status check_rest(const hx_recipe *r)
+static hx_status check_rest(hx_recipe *r)
 {
     if (r->amplitudes != HX_AMP_GAUSSIAN && r->amplitudes != HX_AMP_FIXED)
         return invalid(r, "random", "amplitudes", "must be one of gaussian, fixed");
@@ -1167,6 +1185,10 @@ static hx_status check_rest(const hx_recipe *r)
         return invalid(r, "output", "file", "must name the output file");
     if (r->precision != HX_PREC_SINGLE && r->precision != HX_PREC_DOUBLE)
         return invalid(r, "output", "precision", "must be one of single, double");
+    if (r->compute == HX_COMPUTE_AUTO) r->compute = (int)r->precision;
+    if (r->compute == HX_PREC_SINGLE && r->precision == HX_PREC_DOUBLE)
+        return invalid(r, "output", "compute", "single cannot fill a double-precision file with more than single-precision "
+                                               "values: set compute = double (or auto), or precision = single");
     return HX_OK;
 }
 

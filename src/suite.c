@@ -164,7 +164,7 @@ static hx_status make_file(suite_t *S, const char *path, int force, hx_recipe *o
         st = hx_recipe_validate(&r);
     }
     HX_TRY(hx_error_agree(S->comm, st)); /* a function of the text: the same verdict everywhere */
-    HX_TRY(hx_error_agree(S->comm, hx_make_run(&r, force, &S->quiet, S->comm, NULL)));
+    HX_TRY(hx_error_agree(S->comm, hx_make_run(&r, force, NULL, &S->quiet, S->comm, NULL)));
     if (out) *out = r;
 fail:
     return st;

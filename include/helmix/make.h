@@ -14,6 +14,7 @@
 #include "helmix/error.h"
 #include "helmix/log.h"
 #include "helmix/recipe.h"
+#include "helmix/run.h"
 
 typedef struct hx_make_result {
     double fraction;       /* realized compressive share (k-space sums)                  */
@@ -44,7 +45,18 @@ typedef struct hx_make_result {
 } hx_make_result;
 
 /* Collective: generate the cube of validated recipe r into r->file (replacing an existing
- * file only if force). res may be NULL. On failure nothing is left at r->file. */
-hx_status hx_make_run(const hx_recipe *r, int force, const hx_log *log, MPI_Comm comm, hx_make_result *res);
+ * file only if force), executed as run says (NULL: hx_run_defaults). res may be NULL. On
+ * failure nothing is left at r->file. */
+hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, const hx_log *log, MPI_Comm comm,
+                      hx_make_result *res);
+
+/* 1 when the cloud shapes the velocity of validated recipe r (window, removal of bulk flow or
+ * rotation, mass weighting, or a mass-weighted amplitude in a non-uniform density): then make
+ * takes measuring passes and analyses the file as written. */
+int hx_make_shaped(const hx_recipe *r);
+
+/* 1 when make needs real-space values in double precision from the synthesis (a density, a
+ * shaped velocity or a magnetic field), so the synthesis slab must hold Nx*Ny*nz doubles. */
+int hx_make_needs_doubles(const hx_recipe *r);
 
 #endif

@@ -18,6 +18,11 @@ typedef enum { HX_MIX_ZETA = 0, HX_MIX_FRACTION } hx_mix_mode;
 typedef enum { HX_EXACT_NONE = 0, HX_EXACT_TOTAL, HX_EXACT_SHELL } hx_exact;
 typedef enum { HX_AMP_GAUSSIAN = 0, HX_AMP_FIXED } hx_amplitudes;
 typedef enum { HX_PREC_SINGLE = 0, HX_PREC_DOUBLE } hx_precision;
+/* [output] compute: the precision of the synthesis (auto: that of the file, resolved by validation). */
+enum { HX_COMPUTE_AUTO = 2 };
+/* [output] draws: keep each mode's draws between passes, or regenerate them (auto: keep when the
+ * plan says they fit in memory). */
+typedef enum { HX_DRAWS_AUTO = 0, HX_DRAWS_KEEP, HX_DRAWS_REGENERATE } hx_draws;
 typedef enum { HX_DENSITY_NONE = 0, HX_DENSITY_UNIFORM, HX_DENSITY_SPHERE, HX_DENSITY_BONNOR_EBERT,
                HX_DENSITY_LOGNORMAL } hx_density_model;
 typedef enum { HX_WEIGHT_VOLUME = 0, HX_WEIGHT_MASS } hx_weight;
@@ -124,6 +129,10 @@ typedef struct hx_recipe {
     char file[HX_PATH_MAX];
     hx_precision precision;
     int parts;         /* also write the solenoidal and compressive parts of the velocity */
+    int compute;       /* hx_precision of the synthesis; HX_COMPUTE_AUTO until validated   */
+    hx_draws draws;
+    double alignment;  /* HDF5 alignment of datasets in bytes (0: HDF5's default packing)  */
+    char io_hints[HX_PATH_MAX]; /* MPI-IO hints "key=value,key=value" or "none"            */
     /* derived by hx_recipe_validate */
     hx_code_units code;
     /* where each key (in key-table order) was last set: its line in the recipe text, or 0

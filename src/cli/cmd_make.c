@@ -97,6 +97,6 @@ int hx_cmd_make(int argc, char **argv, MPI_Comm comm, int rank)
     hx_log log;
     hx_log_init(&log, comm, a.verbosity, stderr);
     hx_log_say(&log, HX_LOG_INFO, "helmix %s make %s -> %s", HX_VERSION, a.recipe, r.file);
-    return hx_cli_fail(hx_error_agree(comm, hx_make_run(&r, a.force, &log, comm, NULL)), rank);
+    return hx_cli_fail(hx_error_agree(comm, hx_make_run(&r, a.force, NULL, &log, comm, NULL)), rank);
 }
 

@@ -398,7 +398,7 @@ static void test_template(void)
     fclose(out);
     int lines = 0;
     for (const char *p = text; *p; p++) lines += *p == '\n';
-    CHECK(lines == 61); /* one line per key */
+    CHECK(lines == 65); /* one line per key */
     CHECK_STR_CONTAINS(text, "mix.exact");
     CHECK_STR_CONTAINS(text, "spectrum.kmax");
     free(text);
