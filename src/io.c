@@ -16,6 +16,7 @@
 
 #include "check.h"
 #include "helmix/schema.h"
+#include "io_tuning.h"
 #include "helmix/version.h"
 
 /* One named field of the file: its datasets (one per component) and units. */
@@ -36,11 +37,11 @@ struct hx_io {
     io_field field[HX_IO_MAX_FIELDS];
     int nfield;
     int created; /* the partial file exists: close must remove or rename it */
+    io_tuning tune; /* alignment and MPI-IO hints, for create and resume alike */
+    int64_t transfers[2]; /* field writes HDF5 did collectively, and independently */
     char path[HX_PATH_MAX];
     char partial[HX_PATH_MAX + 16];
 };
-
-static hid_t mpio_fapl(MPI_Comm comm);
 
 hx_status hx_io_check_target(const char *path, int force, MPI_Comm comm)
 {
@@ -259,7 +260,8 @@ fail:
     return st;
 }
 
-hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_precision prec, MPI_Comm comm)
+hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_precision prec, const hx_io_tuning *tuning,
+                       MPI_Comm comm)
 {
     hx_status st = HX_OK;
     hid_t fapl = -1;
@@ -273,7 +275,12 @@ hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_preci
     if (strlen(path) >= sizeof w->path) HX_FAIL(HX_ERR_ARG, "output path is longer than %d characters", HX_PATH_MAX - 1);
     snprintf(w->path, sizeof w->path, "%s", path);
     snprintf(w->partial, sizeof w->partial, "%s.partial", path);
-    HX_H5(fapl, mpio_fapl(comm));
+    /* Align what is worth aligning: every field dataset (one component, N^3 values, is the
+     * smallest of them) and nothing smaller, so headers, attributes and tables stay packed
+     * instead of each taking a whole alignment unit. */
+    hsize_t component = (hsize_t)g->n[0] * (hsize_t)g->n[1] * (hsize_t)g->n[2] * (prec == HX_PREC_DOUBLE ? 8u : 4u);
+    HX_TRY(io_tuning_init(&w->tune, tuning, component));
+    HX_H5(fapl, io_tuning_fapl(&w->tune, comm));
     w->file = H5Fcreate(w->partial, H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
     if (w->file < 0) HX_FAIL(HX_ERR_ARG, "cannot create %s (does the directory exist and is it writable?)", w->partial);
     w->created = 1;
@@ -287,10 +294,87 @@ fail:
     return st;
 }
 
+/* One collective MPI-IO transfer of a selection; counts whether HDF5 really did it
+ * collectively (it falls back to independent I/O on its own, e.g. when it converts types). */
+static hx_status transfer(hx_io *w, hid_t dset, const char *comp, hid_t mtype, hid_t mspace, hid_t fspace, const void *buf)
+{
+    hx_status st = HX_OK;
+    hid_t dxpl = -1;
+    H5D_mpio_actual_io_mode_t mode = H5D_MPIO_NO_COLLECTIVE;
+    HX_H5(dxpl, H5Pcreate(H5P_DATASET_XFER));
+    HX_H5OK(H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE));
+    if (H5Dwrite(dset, mtype, mspace, fspace, dxpl, buf) < 0)
+        HX_FAIL(HX_ERR_HDF5, "collective write of %s to %s failed (disk full or quota?)", comp, w->partial);
+    HX_H5OK(H5Pget_mpio_actual_io_mode(dxpl, &mode));
+    w->transfers[mode == H5D_MPIO_NO_COLLECTIVE ? 1 : 0]++;
+fail:
+    if (dxpl >= 0) H5Pclose(dxpl);
+    return st;
+}
+
+/* Select rows [a, b) of this rank's nz * Ny rows of x values in the file: a partial plane,
+ * whole planes, a partial plane, in file order (which is the order of the rows in memory). */
+static hx_status select_rows(hid_t fspace, const hx_grid *g, hsize_t a, hsize_t b)
+{
+    hx_status st = HX_OK;
+    const hsize_t ny = (hsize_t)g->n[1];
+    H5S_seloper_t op = H5S_SELECT_SET;
+    if (a >= b) HX_H5OK(H5Sselect_none(fspace));
+    while (a < b) {
+        hsize_t z = a / ny, y = a % ny, start[3] = {(hsize_t)g->z0 + z, y, 0}, count[3] = {1, 0, (hsize_t)g->n[0]};
+        if (y == 0 && b - a >= ny) count[0] = (b - a) / ny, count[1] = ny;
+        else count[1] = ny - y < b - a ? ny - y : b - a;
+        HX_H5OK(H5Sselect_hyperslab(fspace, op, start, NULL, count, NULL));
+        op = H5S_SELECT_OR;
+        a += count[0] * count[1];
+    }
+fail:
+    return st;
+}
+
+/* HDF5 1.10 turns a transfer that converts types into independent I/O (no-collective cause
+ * H5D_MPIO_DATATYPE_CONVERSION), so doubles bound for a single-precision file are rounded
+ * here (as HDF5 would: the C conversion), a bounded run of rows at a time, and every run is
+ * written collectively; a rank with fewer rows joins the remaining transfers selecting nothing. */
+#define CONVERT_BYTES ((size_t)4 << 20)
+
+static hx_status write_rounded(hx_io *w, hid_t dset, const char *comp, const double *slab)
+{
+    hx_status st = HX_OK;
+    hid_t fspace = -1, mspace = -1;
+    float *buf = NULL;
+    const hx_grid *g = &w->g;
+    const hsize_t nx = (hsize_t)g->n[0], rows = (hsize_t)g->nz * (hsize_t)g->n[1];
+    hsize_t per = CONVERT_BYTES / (nx * sizeof(float));
+    if (per < 1) per = 1;
+    long long runs = (long long)((rows + per - 1) / per), most = 0;
+    buf = malloc((size_t)(per * nx) * sizeof *buf);
+    HX_TRY(hx_error_agree(w->comm, buf ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for %zu MiB of rounding buffer",
+                                                                 CONVERT_BYTES >> 20)));
+    HX_MPI(MPI_Allreduce(&runs, &most, 1, MPI_LONG_LONG, MPI_MAX, w->comm));
+    HX_H5(fspace, H5Dget_space(dset));
+    for (long long i = 0; i < most; i++) {
+        hsize_t a = (hsize_t)i * per < rows ? (hsize_t)i * per : rows, b = a + per < rows ? a + per : rows, n = (b - a) * nx;
+        for (hsize_t j = 0; j < n; j++) buf[j] = (float)slab[a * nx + j];
+        HX_TRY(select_rows(fspace, g, a, b));
+        hsize_t mdim = n > 0 ? n : 1;
+        HX_H5(mspace, H5Screate_simple(1, &mdim, NULL));
+        if (n == 0) HX_H5OK(H5Sselect_none(mspace));
+        HX_TRY(transfer(w, dset, comp, H5T_NATIVE_FLOAT, mspace, fspace, buf));
+        H5Sclose(mspace);
+        mspace = -1;
+    }
+fail:
+    free(buf);
+    if (mspace >= 0) H5Sclose(mspace);
+    if (fspace >= 0) H5Sclose(fspace);
+    return st;
+}
+
 static hx_status write_slab(hx_io *w, int id, int c, const void *slab, hid_t mtype)
 {
     hx_status st = HX_OK;
-    hid_t fspace = -1, mspace = -1, dxpl = -1;
+    hid_t fspace = -1, mspace = -1;
     const hx_grid *g = &w->g;
     hsize_t start[3] = {(hsize_t)g->z0, 0, 0}, count[3] = {(hsize_t)g->nz, (hsize_t)g->n[1], (hsize_t)g->n[0]};
     hsize_t one = 1;
@@ -299,6 +383,7 @@ static hx_status write_slab(hx_io *w, int id, int c, const void *slab, hid_t mty
     hid_t dset = w->field[id].dset[c];
     char comp[64];
     hx_schema_component(comp, sizeof comp, w->field[id].name, w->field[id].ncomp, c);
+    if (mtype == H5T_NATIVE_DOUBLE && w->prec != HX_PREC_DOUBLE) return write_rounded(w, dset, comp, slab);
     HX_H5(fspace, H5Dget_space(dset));
     if (g->nz > 0) {
         HX_H5OK(H5Sselect_hyperslab(fspace, H5S_SELECT_SET, start, NULL, count, NULL));
@@ -308,12 +393,8 @@ static hx_status write_slab(hx_io *w, int id, int c, const void *slab, hid_t mty
         HX_H5(mspace, H5Screate_simple(1, &one, NULL));
         HX_H5OK(H5Sselect_none(mspace));
     }
-    HX_H5(dxpl, H5Pcreate(H5P_DATASET_XFER));
-    HX_H5OK(H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE));
-    if (H5Dwrite(dset, mtype, mspace, fspace, dxpl, slab) < 0)
-        HX_FAIL(HX_ERR_HDF5, "collective write of %s to %s failed (disk full or quota?)", comp, w->partial);
+    HX_TRY(transfer(w, dset, comp, mtype, mspace, fspace, slab));
 fail:
-    if (dxpl >= 0) H5Pclose(dxpl);
     if (mspace >= 0) H5Sclose(mspace);
     if (fspace >= 0) H5Sclose(fspace);
     return st;
@@ -330,16 +411,6 @@ hx_status hx_io_write_doubles(hx_io *w, int id, int c, const double *slab)
 }
 
 const char *hx_io_partial(const hx_io *w) { return w->partial; }
-
-static hid_t mpio_fapl(MPI_Comm comm)
-{
-    hid_t fapl = H5Pcreate(H5P_FILE_ACCESS);
-    if (fapl >= 0 && H5Pset_fapl_mpio(fapl, comm, MPI_INFO_NULL) < 0) {
-        H5Pclose(fapl);
-        fapl = -1;
-    }
-    return fapl;
-}
 
 hx_status hx_io_pause(hx_io *w)
 {
@@ -360,7 +431,7 @@ hx_status hx_io_resume(hx_io *w)
 {
     hx_status st = HX_OK;
     hid_t fapl = -1;
-    HX_H5(fapl, mpio_fapl(w->comm));
+    HX_H5(fapl, io_tuning_fapl(&w->tune, w->comm));
     w->file = H5Fopen(w->partial, H5F_ACC_RDWR, fapl);
     if (w->file < 0) HX_FAIL(HX_ERR_HDF5, "cannot reopen %s", w->partial);
     for (int i = 0; i < w->nfield; i++)
@@ -409,6 +480,20 @@ hx_status hx_io_attr_int64s(hx_io *w, const char *group, const char *name, const
 hx_status hx_io_attr_uint64(hx_io *w, const char *group, const char *name, uint64_t v)
 {
     return numeric_attr(w, group, name, H5T_STD_U64LE, H5T_NATIVE_UINT64, &v, 0);
+}
+
+hx_status hx_io_attr_tuning(hx_io *w, const char *group)
+{
+    hx_status st = HX_OK;
+    int64_t most[2];
+    double a = (double)w->tune.alignment, thr = w->tune.alignment > 0 ? (double)w->tune.threshold : 0.0;
+    HX_TRY(hx_io_attr_doubles(w, group, HX_IO_ATTR_ALIGNMENT, &a, 0));
+    HX_TRY(hx_io_attr_doubles(w, group, HX_IO_ATTR_ALIGNMENT_THRESHOLD, &thr, 0));
+    HX_TRY(hx_io_attr_string(w, group, HX_IO_ATTR_HINTS, w->tune.hints));
+    HX_MPI(MPI_Allreduce(w->transfers, most, 2, MPI_INT64_T, MPI_MAX, w->comm)); /* one value for every rank */
+    HX_TRY(hx_io_attr_int64s(w, group, HX_IO_ATTR_TRANSFERS, most, 2));
+fail:
+    return st;
 }
 
 hx_status hx_io_table(hx_io *w, const char *group, const char *name, const double *v, int n)
@@ -528,6 +613,7 @@ hx_status hx_io_close(hx_io **wp, int commit)
         hx_status final = hx_error_agree(w->comm, st);
         if (st == HX_OK) st = final;
     }
+    io_tuning_free(&w->tune);
     free(w);
     *wp = NULL;
     return st;

@@ -67,7 +67,7 @@ static hx_status create_out(hx_io **io, const char *path, const hx_grid *g, cons
                             const char *what, MPI_Comm comm)
 {
     hx_status st = HX_OK;
-    HX_TRY(hx_error_agree(comm, hx_io_create(io, path, g, HX_PREC_DOUBLE, comm)));
+    HX_TRY(hx_error_agree(comm, hx_io_create(io, path, g, HX_PREC_DOUBLE, NULL, comm)));
     for (int i = 0; i < nf; i++) HX_TRY(hx_error_agree(comm, hx_io_add_field(*io, fields[i], 3, UNIT_VELOCITY, 0, &ids[i])));
     HX_TRY(hx_error_agree(comm, hx_io_attr_string(*io, SUITE_GROUP, "helmix_version", HX_VERSION)));
     HX_TRY(hx_error_agree(comm, hx_io_attr_string(*io, SUITE_GROUP, "content", what)));

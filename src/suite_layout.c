@@ -151,7 +151,7 @@ static hx_status write_single(const char *src, const char *path, MPI_Comm comm)
     HX_TRY(hx_error_agree(comm, hx_grid_init(&g, cells, box, comm)));
     int64_t n = (int64_t)g.nz * g.n[1] * g.n[0];
     HX_TRY(hx_error_agree(comm, (v = malloc((size_t)(n ? n : 1) * sizeof *v)) ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for a slab")));
-    HX_TRY(hx_error_agree(comm, hx_io_create(&io, path, &g, HX_PREC_SINGLE, comm)));
+    HX_TRY(hx_error_agree(comm, hx_io_create(&io, path, &g, HX_PREC_SINGLE, NULL, comm)));
     for (int f = 0; f < 3; f++) HX_TRY(hx_error_agree(comm, hx_io_add_field(io, fields[f], 3, "code_length/code_time", 0, &id[f])));
     HX_TRY(hx_error_agree(comm, hx_io_attr_string(io, "/suite", "content", "the field of layout_zyx rounded to single precision")));
     for (int f = 0; f < 3; f++)

@@ -23,9 +23,40 @@ hx_status hx_io_check_target(const char *path, int force, MPI_Comm comm);
 
 #define HX_IO_MAX_FIELDS 8
 
+/* How the file is laid out and opened ([output] alignment and io_hints of a recipe).
+ * alignment > 0 places every object of at least one field component's size (the field
+ * datasets, nothing smaller: headers, attributes and per-shell tables stay packed) at a file
+ * address that is a multiple of alignment (H5Pset_alignment); hints are MPI-IO hints given to
+ * the file open (H5Pset_fapl_mpio), names and values as the MPI library spells them. */
+typedef struct hx_io_tuning {
+    double alignment;  /* bytes, a whole number >= 0; 0: HDF5's packing          */
+    const char *hints; /* "key=value,key=value"; NULL, "" or "none": no hints     */
+} hx_io_tuning;
+
+/* Not collective: HX_ERR_ARG with one line naming [output] alignment or [output] io_hints
+ * when t is malformed (hints: key=value items, names of letters, digits, '_', '-', '.',
+ * values without blanks, ',' or '=', no name twice). NULL is valid. Needs no MPI. */
+hx_status hx_io_tuning_check(const hx_io_tuning *t);
+
 /* Collective: create PATH.partial with the GDF skeleton; datasets of the given precision come
- * with hx_io_add_field. */
-hx_status hx_io_create(hx_io **w, const char *path, const hx_grid *g, hx_precision prec, MPI_Comm comm);
+ * with hx_io_add_field. tuning: NULL for HDF5's defaults; it is checked (hx_io_tuning_check)
+ * before anything is created, and every rank passes the same values. Field data always goes
+ * through collective MPI-IO transfers. */
+hx_status hx_io_create(hx_io **w, const char *path, const hx_grid *g, hx_precision prec, const hx_io_tuning *tuning,
+                       MPI_Comm comm);
+
+/* Attribute names hx_io_attr_tuning writes: the alignment and threshold in bytes (doubles,
+ * 0 0 for HDF5's packing), the hints as given to MPI ("none" or canonical key=value text) and
+ * two int64s: the field writes so far that HDF5 did as collective transfers, and those it
+ * fell back to independent I/O for (expected 0). */
+#define HX_IO_ATTR_ALIGNMENT "io_alignment"
+#define HX_IO_ATTR_ALIGNMENT_THRESHOLD "io_alignment_threshold"
+#define HX_IO_ATTR_HINTS "io_hints"
+#define HX_IO_ATTR_TRANSFERS "io_transfers"
+
+/* Collective: record the tuning the file was created with, and the transfers so far, as
+ * attributes of `group` (make: "/helmix", after the last field write). */
+hx_status hx_io_attr_tuning(hx_io *w, const char *group);
 
 /* Collective: add field `name` with ncomp (1 or 3) datasets of shape (Nz, Ny, Nx), named by
  * hx_schema_component, whose values are in `unit` (yt's spelling, e.g. "code_length/code_time");
@@ -41,7 +72,9 @@ hx_status hx_io_units(hx_io *w, double length_cm, double mass_g, double time_s);
  * of component c of field id with a collective MPI-IO transfer. Ranks with nz = 0 take part. */
 hx_status hx_io_write_component(hx_io *w, int id, int c, const void *slab);
 
-/* The same from double values, converted to the file's precision by HDF5 on the way out. */
+/* The same from double values, rounded to the file's precision on the way out (in bounded
+ * runs of rows, each a collective transfer: HDF5 would fall back to independent I/O if it
+ * converted the types itself). */
 hx_status hx_io_write_doubles(hx_io *w, int id, int c, const double *slab);
 
 /* Collective: close the partial file for a while (so it can be read back, e.g. by the
