@@ -32,6 +32,7 @@ struct hx_cube {
     int64_t n[3];           /* Nx, Ny, Nz */
     double box[3];
     int single;             /* the velocity */
+    double bytes_read;      /* bytes this rank has read from the datasets (file element sizes) */
 };
 
 /* The vector field of a slot (0..NVEC-1), or -1 for the density. */
@@ -253,6 +254,8 @@ void hx_cube_shape(const hx_cube *cu, int64_t cells[3], double box[3])
 
 int hx_cube_single(const hx_cube *cu) { return cu->single; }
 
+double hx_cube_bytes_read(const hx_cube *cu) { return cu ? cu->bytes_read : 0.0; }
+
 int hx_cube_has_density(const hx_cube *cu) { return cu->dset[HX_SLOT_DENSITY] >= 0; }
 
 int hx_cube_has_field(const hx_cube *cu, int slot) { return slot >= 0 && slot < HX_SLOT_COUNT && cu->dset[slot] >= 0; }
@@ -318,6 +321,11 @@ static hx_status read_planes(hx_cube *cu, int c, const hx_grid *g, int64_t z0, i
     }
     if (H5Dread(set, H5T_NATIVE_DOUBLE, mspace, fspace, dxpl, buf) < 0)
         HX_FAIL(HX_ERR_ARG, "reading %s from %s failed (truncated or damaged file?)", cu->name[c], cu->path);
+    hid_t ftype = H5Dget_type(set); /* what the file holds, not the doubles it becomes */
+    if (ftype >= 0) {
+        cu->bytes_read += (double)nz * (double)ny * (double)nx * (double)H5Tget_size(ftype);
+        H5Tclose(ftype);
+    }
     if (tmp) /* xyz order: z fastest in the file, x fastest in the slab */
         for (int64_t x = 0; x < nx; x++)
             for (int64_t y = 0; y < ny; y++)

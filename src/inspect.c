@@ -48,6 +48,7 @@ typedef struct {
     hx_state_sums S;   /* the state's sums (reduced where hx_diag_set_state needs them) */
     fftw_plan r2c, c2r;
     const char *file, *density; /* for messages */
+    hx_timer *T;       /* phase timings, or NULL */
     double grad2, div2; /* local sums of |k|^2 |v̂|^2 and |k·v̂|^2 (both halves) */
 } work_t;
 
@@ -191,7 +192,8 @@ static hx_status make_slices(work_t *W, hx_diag *d)
     fftw_complex *all = NULL, *tmp = NULL;
     double *re = NULL;
     ptrdiff_t nx = g->n[0], ny = g->n[1], plane_all = ny * g->nxc;
-    int mine = (int)(2 * g->ny * g->nxc);
+    int mine = (int)(2 * g->ny * g->nxc), ffts = 0; /* 2-D transforms, on rank 0 */
+    hx_timer_begin(W->T, "slices");
     if (g->rank == 0) { /* no early exit here: the other ranks wait in the agreement below */
         counts = calloc((size_t)g->size, sizeof *counts);
         displs = calloc((size_t)g->size, sizeof *displs);
@@ -220,6 +222,7 @@ static hx_status make_slices(work_t *W, hx_diag *d)
         if (g->rank != 0) continue;
         memcpy(tmp, all, (size_t)plane_all * sizeof *tmp);
         fftw_execute(p2);
+        ffts++;
         double *dst = q == PDIV ? d->slice_div : q < PW ? d->slice_speed : d->slice_vort;
         for (ptrdiff_t i = 0; i < nx * ny; i++) dst[i] += q == PDIV ? re[i] : re[i] * re[i];
     }
@@ -233,6 +236,7 @@ static hx_status make_slices(work_t *W, hx_diag *d)
         d->slice_n[1] = ny;
     }
 fail:
+    hx_timer_end(W->T, "slices", 0, ffts);
     free(counts);
     free(displs);
     fftw_free(all);
@@ -326,6 +330,25 @@ static void teardown(work_t *W)
     free(W->shell_of);
 }
 
+/* Collective: read slot c of this rank's slab into dst (rows `stride` apart), timed as "read"
+ * with the bytes the file gave; agreed. */
+static hx_status read_slot(work_t *W, hx_cube *cube, int c, double *dst, int64_t stride)
+{
+    double b0 = hx_cube_bytes_read(cube);
+    hx_timer_begin(W->T, "read");
+    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, c, &W->g, dst, stride));
+    hx_timer_end(W->T, "read", hx_cube_bytes_read(cube) - b0, 0);
+    return st;
+}
+
+/* In-place transform of slab A (r2c or the inverse), timed as one transform. */
+static void transform(work_t *W, fftw_plan p)
+{
+    hx_timer_begin(W->T, "transform");
+    fftw_execute(p);
+    hx_timer_end(W->T, "transform", 0, 1);
+}
+
 /* The state's sums of component c (rows `stride` apart in slab A): first the plain sums, which
  * give the region's mass-weighted mean m_c once reduced, then the weighted squares about m_c,
  * reduced with the rest after the last component. Collective. */
@@ -377,13 +400,15 @@ static hx_status load(work_t *W, hx_cube *cube, int c)
 {
     const hx_grid *g = &W->g;
     int64_t stride = 2 * g->nxc;
-    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, W->f.slot + c, g, (double *)W->a, stride));
+    hx_status st = read_slot(W, cube, W->f.slot + c, (double *)W->a, stride);
     if (st != HX_OK || !W->rho || !W->f.state) return st;
     double *v = (double *)W->a;
-    if ((st = state_component(W, c, v, stride)) != HX_OK || !W->f.weight) return st;
-    for (ptrdiff_t r = 0; r < g->nz * g->n[1]; r++)
-        for (ptrdiff_t x = 0; x < g->n[0]; x++) v[r * stride + x] *= sqrt(W->rho[r * g->n[0] + x]);
-    return HX_OK;
+    hx_timer_begin(W->T, "moments");
+    if ((st = state_component(W, c, v, stride)) == HX_OK && W->f.weight)
+        for (ptrdiff_t r = 0; r < g->nz * g->n[1]; r++)
+            for (ptrdiff_t x = 0; x < g->n[0]; x++) v[r * stride + x] *= sqrt(W->rho[r * g->n[0] + x]);
+    hx_timer_end(W->T, "moments", 0, 0);
+    return st;
 }
 
 /* Read the density, refuse negative or non-numeric values, and take its sums: mass (box and
@@ -392,8 +417,9 @@ static hx_status read_density(work_t *W, hx_cube *cube)
 {
     const hx_grid *g = &W->g;
     const ptrdiff_t nx = g->n[0];
-    hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, HX_SLOT_DENSITY, g, W->rho, nx));
+    hx_status st = read_slot(W, cube, HX_SLOT_DENSITY, W->rho, nx);
     if (st != HX_OK) return st;
+    hx_timer_begin(W->T, "moments");
     double s[5] = {0, 0, 0, 0, 0}; /* sum rho, sum_R rho, sum ln rho, cells with rho = 0, bad cells */
     for (ptrdiff_t z = 0; z < g->nz; z++)
         for (ptrdiff_t y = 0; y < g->n[1]; y++) {
@@ -409,7 +435,10 @@ static hx_status read_density(work_t *W, hx_cube *cube)
         }
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 5, MPI_DOUBLE, MPI_SUM, W->comm));
     if (s[4] > 0) /* every rank knows from the reduction: they all leave together */
-        return hx_error_set(HX_ERR_ARG, "density %s in %s holds negative or non-numeric values", W->density, W->file);
+    {
+        st = hx_error_set(HX_ERR_ARG, "density %s in %s holds negative or non-numeric values", W->density, W->file);
+        goto fail;
+    }
     const double n = (double)hx_grid_cells(g), ml = s[2] / n;
     double dev = 0;
     for (ptrdiff_t i = 0; i < g->nz * g->n[1] * nx; i++) {
@@ -424,6 +453,7 @@ static hx_status read_density(work_t *W, hx_cube *cube)
     W->S.ln_rho = s[3] > 0 ? NAN : s[2];
     W->S.ln_rho_dev2 = s[3] > 0 ? NAN : dev;
 fail:
+    hx_timer_end(W->T, "moments", 0, 0);
     return st;
 }
 
@@ -460,15 +490,24 @@ static hx_status analyse_field(work_t *W, hx_cube *cube, const hx_log *log, hx_d
     clear_sums(W);
     for (int c = 0; c < 3; c++) {
         HX_TRY(load(W, cube, c));
-        if (W->f.ell <= 0) HX_TRY(hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm));
-        fftw_execute(W->r2c);
+        hx_timer_begin(W->T, "moments");
+        if (W->f.ell <= 0) st = hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm);
+        hx_timer_end(W->T, "moments", 0, 0);
+        HX_TRY(st);
+        transform(W, W->r2c);
+        hx_timer_begin(W->T, "accumulate");
         accumulate(W, c, d);
+        hx_timer_end(W->T, "accumulate", 0, 0);
         if (W->f.ell > 0) {
-            fftw_execute(W->c2r);
-            HX_TRY(hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm));
+            transform(W, W->c2r);
+            hx_timer_begin(W->T, "moments");
+            st = hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm);
+            hx_timer_end(W->T, "moments", 0, 0);
+            HX_TRY(st);
         }
         hx_log_say(log, HX_LOG_INFO, "%s component %c analysed", W->f.what, "xyz"[c]);
     }
+    hx_timer_begin(W->T, "accumulate");
     accumulate_div(W, d);
     if (W->f.state) HX_TRY(state_finish(W, d));
     int ns = d->nshell;
@@ -482,6 +521,7 @@ static hx_status analyse_field(work_t *W, hx_cube *cube, const hx_log *log, hx_d
     d->div_ratio = sums[0] > 0 ? d->div_rms / sqrt(sums[0]) : NAN;
     d->vort_ratio = sums[0] > 0 ? d->vort_rms / sqrt(sums[0]) : NAN;
 fail:
+    hx_timer_end(W->T, "accumulate", 0, 0); /* ends nothing when the loop failed before it began */
     return st;
 }
 
@@ -522,9 +562,15 @@ static hx_status face_divergence(work_t *W, hx_cube *cube, hx_magnetic *m)
     for (int a = 0; a < 3; a++) dx[a] = g->box[a] / (double)g->n[a];
     memset(div, 0, (size_t)(nz * ny * nx) * sizeof(double));
     for (int c = 0; c < 3; c++) {
-        HX_TRY(hx_error_agree(W->comm, hx_cube_read(cube, HX_SLOT_MAGNETIC_FACE + c, g, v, stride)));
-        if (c == 2) /* every rank takes part; a rank without planes reads none */
-            HX_TRY(hx_error_agree(W->comm, hx_cube_read_plane(cube, HX_SLOT_MAGNETIC_FACE + 2, g, (g->z0 + nz) % g->n[2], next)));
+        HX_TRY(read_slot(W, cube, HX_SLOT_MAGNETIC_FACE + c, v, stride));
+        if (c == 2) { /* every rank takes part; a rank without planes reads none */
+            double b0 = hx_cube_bytes_read(cube);
+            hx_timer_begin(W->T, "read");
+            st = hx_error_agree(W->comm, hx_cube_read_plane(cube, HX_SLOT_MAGNETIC_FACE + 2, g, (g->z0 + nz) % g->n[2], next));
+            hx_timer_end(W->T, "read", hx_cube_bytes_read(cube) - b0, 0);
+            HX_TRY(st);
+        }
+        hx_timer_begin(W->T, "moments");
         for (ptrdiff_t z = 0; z < nz; z++)
             for (ptrdiff_t y = 0; y < ny; y++) {
                 const double *row = v + (z * ny + y) * stride, *up = row + 1; /* the high face of each cell */
@@ -538,7 +584,9 @@ static hx_status face_divergence(work_t *W, hx_cube *cube, hx_magnetic *m)
                 } else
                     for (ptrdiff_t x = 0; x < nx; x++) out[x] += (up[x] - row[x]) / dx[c];
             }
+        hx_timer_end(W->T, "moments", 0, 0);
     }
+    hx_timer_begin(W->T, "moments");
     for (ptrdiff_t i = 0; i < nz * ny * nx; i++) {
         double a = fabs(div[i]);
         if (a > worst) worst = a;
@@ -552,6 +600,7 @@ static hx_status face_divergence(work_t *W, hx_cube *cube, hx_magnetic *m)
     m->face_div_max = sums[1] > 0 ? NAN : worst;
     m->face_div = sums[1] > 0 ? NAN : worst > 0 ? worst / (m->face_rms / dmin) : 0.0;
 fail:
+    hx_timer_end(W->T, "moments", 0, 0);
     free(next);
     return st;
 }
@@ -599,6 +648,8 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     memset(&W, 0, sizeof W);
     memset(d, 0, sizeof *d);
     double t0 = MPI_Wtime();
+    W.T = o->timer;
+    hx_timer_begin(W.T, "open");
     HX_TRY(hx_error_agree(comm, hx_cube_open(&cube, &o->cube, comm)));
     HX_TRY(hx_error_agree(comm, hx_cube_request(cube, q, found)));
     if (!*found) hx_request_defaults(q, hx_cube_single(cube), 0);
@@ -616,8 +667,13 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     W.cloud = state.cloud;
     memcpy(W.center, state.center, sizeof W.center);
     W.radius = state.radius;
-    HX_TRY(setup(&W, o, cube, comm));
+    hx_timer_end(W.T, "open", 0, 0); /* metadata only: the datasets are read (and counted) later */
+    hx_timer_begin(W.T, "plan");
+    st = setup(&W, o, cube, comm);
+    hx_timer_end(W.T, "plan", 0, 0);
+    HX_TRY(st);
     const hx_grid *g = &W.g;
+    hx_timer_grid(W.T, (int64_t[3]){g->n[0], g->n[1], g->n[2]});
     for (int a = 0; a < 3; a++) d->cells[a] = g->n[a], d->box[a] = g->box[a];
     d->ranks = g->size;
     d->remove_scale = o->remove_scale;
@@ -630,11 +686,16 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     if (W.rho) HX_TRY(read_density(&W, cube));
     W.f = (field_t){HX_SLOT_VELOCITY, W.rho != NULL, weight, o->remove_scale, o->slices, "velocity"};
     HX_TRY(analyse_field(&W, cube, log, d));
+    hx_timer_begin(W.T, "finish");
     default_fit(d, o, q, *found);
     hx_diag_finish(d);
+    hx_timer_end(W.T, "finish", 0, 0);
     if (W.f.slices) HX_TRY(make_slices(&W, d));
     if (hx_cube_has_field(cube, HX_SLOT_MAGNETIC)) HX_TRY(analyse_magnetic(&W, cube, o, &state, log, d));
-    HX_TRY(hx_log_peak_rss(comm, &d->peak_rss));
+    hx_timer_begin(W.T, "finish");
+    st = hx_log_peak_rss(comm, &d->peak_rss);
+    hx_timer_end(W.T, "finish", 0, 0);
+    HX_TRY(st);
     d->seconds = MPI_Wtime() - t0;
     hx_log_say(log, HX_LOG_INFO, "analysis done in %.2f s, peak %.1f MiB per rank", d->seconds,
                (double)d->peak_rss / 1048576.0);

@@ -83,6 +83,10 @@ hx_status hx_cube_read(hx_cube *cube, int c, const hx_grid *g, double *dst, int6
  * but takes part. Each rank may ask for a different plane (the neighbour of its slab). */
 hx_status hx_cube_read_plane(hx_cube *cube, int c, const hx_grid *g, int64_t z, double *dst);
 
+/* Bytes this rank has read from the file's datasets so far (elements times their size in the
+ * file), for the timings. Not collective. */
+double hx_cube_bytes_read(const hx_cube *cube);
+
 /* 1 when a density dataset is open: --density, or the helmix layout's own. */
 int hx_cube_has_density(const hx_cube *cube);
 

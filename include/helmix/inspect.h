@@ -13,6 +13,7 @@
 #include "helmix/cube.h"
 #include "helmix/diag.h"
 #include "helmix/log.h"
+#include "helmix/timer.h"
 #include "helmix/verdict.h"
 
 typedef struct hx_inspect_opts {
@@ -24,6 +25,8 @@ typedef struct hx_inspect_opts {
     double gravity;      /* > 0: G in code units for the virial parameter; 0: the file's       */
     double gamma;        /* > 0: adiabatic index for beta (P = rho c_s^2 / gamma); 0: the file's,
                           * else 1 (c_s is then the isothermal sound speed)                   */
+    hx_timer *timer;     /* phase timings (open, plan, read, moments, transform, accumulate,
+                          * slices, finish), or NULL for none                                   */
 } hx_inspect_opts;
 
 /* Collective: analyse the cube of o into d (arrays allocated here; hx_diag_clear frees); with

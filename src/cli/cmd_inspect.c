@@ -74,12 +74,15 @@ static void inspect_usage(FILE *out)
             "  --json FILE             every number as JSON\n"
             "  --csv FILE              per-shell table\n"
             "  --plot FILE.png|.pdf    one report page\n"
+            "  --timings FILE.json     wall time, bytes read and transforms per phase (open, plan, read,\n"
+            "                          moments, transform, accumulate, slices, finish, report), min/mean/max\n"
+            "                          over the ranks, and peak memory per rank (docs/timings.schema.json)\n"
             "  --quiet                 no progress lines\n");
 }
 
 typedef struct {
     hx_inspect_opts o;
-    const char *json, *csv, *plot, *expect, *tolerance;
+    const char *json, *csv, *plot, *expect, *tolerance, *timings;
     int check, help, verbosity;
 } inspect_args;
 
@@ -106,6 +109,7 @@ static hx_status option_value(hx_inspect_opts *o, inspect_args *a, const char *o
     else if (!strcmp(opt, "--json")) a->json = val;
     else if (!strcmp(opt, "--csv")) a->csv = val;
     else if (!strcmp(opt, "--plot")) a->plot = val;
+    else if (!strcmp(opt, "--timings")) a->timings = val;
     else if (!strcmp(opt, "--expect")) a->expect = val;
     else if (!strcmp(opt, "--tolerance")) a->tolerance = val;
     else if (!strcmp(opt, "--order")) {
@@ -206,13 +210,25 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
         return HX_EXIT_OK;
     }
     if (st != HX_OK) return hx_cli_fail(st, rank);
+    hx_timer *timer = NULL;
+    if (a.timings) { /* a missing directory is refused before any work */
+        st = hx_timer_check_path(a.timings, comm);
+        if (st == HX_OK) st = hx_error_agree(comm, hx_timer_create(&timer, "inspect"));
+        if (st != HX_OK) return hx_cli_fail(st, rank);
+        hx_timer_note_text(timer, "file", a.o.cube.file);
+        hx_timer_note(timer, "threads", 1); /* inspect runs one thread per rank */
+        a.o.timer = timer;
+    }
     hx_log log;
     hx_log_init(&log, comm, a.verbosity, stderr);
     hx_diag d;
     hx_request q;
     int found = 0;
     st = hx_inspect_run(&a.o, &log, comm, &d, &q, &found);
-    if (st != HX_OK) return hx_cli_fail(st, rank);
+    if (st != HX_OK) {
+        hx_timer_destroy(&timer);
+        return hx_cli_fail(st, rank);
+    }
     /* --expect replaces what the file recorded; --tolerance adjusts either */
     if (a.expect) {
         hx_request_defaults(&q, q.single, 0);
@@ -229,8 +245,12 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
                           a.expect, a.o.cube.file);
     else if (st == HX_OK && a.check && v.n == 0)
         st = hx_error_set(HX_ERR_ARG, "--check: %s records no request; say what to expect with --expect", a.o.cube.file);
+    hx_timer_begin(timer, "report");
     if (st == HX_OK && rank == 0) st = outputs(&a, &d, &q, &v);
     st = hx_error_agree(comm, st);
+    hx_timer_end(timer, "report", 0, 0);
+    if (st == HX_OK && timer) st = hx_timer_write(timer, a.timings, comm);
+    hx_timer_destroy(&timer);
     hx_diag_clear(&d);
     if (st != HX_OK) return hx_cli_fail(st, rank);
     return a.check && !v.passed ? HX_EXIT_CHECK : HX_EXIT_OK;
