@@ -20,6 +20,7 @@ int hx_cmd_make(int argc, char **argv, MPI_Comm comm, int rank);
 int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank);
 int hx_cmd_suite(int argc, char **argv, MPI_Comm comm, int rank);
 int hx_cmd_score(int argc, char **argv, MPI_Comm comm, int rank);
+int hx_cmd_scaling(int argc, char **argv, MPI_Comm comm, int rank);
 
 /* Print "helmix: error: <message>" on rank 0 and return the exit code of st. */
 int hx_cli_fail(hx_status st, int rank);
