@@ -2,7 +2,8 @@
  * `helmix make`, bench/floor_inspect.c for `helmix inspect`): start-up of MPI, checks on
  * every MPI / HDF5 / FFTW call, the in-place z-slab of an N^3 real <-> complex transform
  * (FFTW-MPI transposed layout), the parallel-HDF5 file, transfer and selection set-up, and
- * the measured span with its BENCH line.
+ * the measured span with its BENCH line. The slab serves double (fftw_*) and single
+ * (fftwf_*) precision transforms alike: the layout is the same, only the element size differs.
  *
  * Define FLOOR_NAME (the program name, "floor" or "floor_inspect") before including this
  * header: it names the program in error messages and in the BENCH line
@@ -94,33 +95,49 @@ static inline double floor_start(void)
     CK_MPI(MPI_Barrier(MPI_COMM_WORLD));
     const double t0 = MPI_Wtime();
     fftw_mpi_init();
+    fftwf_mpi_init();
     return t0;
 }
 
 /* One in-place slab for an (nz, ny, nx) real <-> (nz, ny, nx/2+1) complex transform in
  * FFTW-MPI's transposed layout: the real side is distributed over z (planes
  * [z0, z0 + n0)), the complex side, stored [y_local][z][x], over y (rows [y0, y0 + n1)).
- * Real rows are padded to nxp = 2 (nx/2 + 1) doubles. */
+ * Real rows are padded to nxp = 2 (nx/2 + 1) values. With single = 1 the memory holds floats
+ * (fcdata, frdata, half the bytes); otherwise doubles (cdata, rdata). */
 typedef struct {
     ptrdiff_t nz, ny, nx;
     ptrdiff_t nxc, nxp; /* complex points along x; padded real row length */
     ptrdiff_t n0, z0;   /* real side: this rank's z planes */
     ptrdiff_t n1, y0;   /* complex side: this rank's y rows */
+    int single;
     fftw_complex *cdata;
     double *rdata; /* the same memory seen as real rows */
+    fftwf_complex *fcdata; /* single: the memory as float complex values and real rows */
+    float *frdata;
 } floor_slab;
 
-static inline floor_slab floor_slab_alloc(ptrdiff_t nz, ptrdiff_t ny, ptrdiff_t nx)
+static inline floor_slab floor_slab_alloc_prec(ptrdiff_t nz, ptrdiff_t ny, ptrdiff_t nx, int single)
 {
-    floor_slab s = {.nz = nz, .ny = ny, .nx = nx, .nxc = nx / 2 + 1, .nxp = 2 * (nx / 2 + 1)};
+    floor_slab s = {.nz = nz, .ny = ny, .nx = nx, .nxc = nx / 2 + 1, .nxp = 2 * (nx / 2 + 1), .single = single};
     ptrdiff_t alloc_local = fftw_mpi_local_size_3d_transposed(nz, ny, s.nxc, MPI_COMM_WORLD,
                                                               &s.n0, &s.z0, &s.n1, &s.y0);
     if (alloc_local < 0) FLOOR_DIE("fftw_mpi_local_size_3d_transposed");
     if (alloc_local < 1) alloc_local = 1; /* a rank with no planes still gets a valid pointer */
-    s.cdata = fftw_alloc_complex((size_t)alloc_local);
-    if (!s.cdata) FLOOR_DIE("fftw_alloc_complex");
-    s.rdata = (double *)s.cdata;
+    if (single) {
+        s.fcdata = fftwf_alloc_complex((size_t)alloc_local);
+        if (!s.fcdata) FLOOR_DIE("fftwf_alloc_complex");
+        s.frdata = (float *)s.fcdata;
+    } else {
+        s.cdata = fftw_alloc_complex((size_t)alloc_local);
+        if (!s.cdata) FLOOR_DIE("fftw_alloc_complex");
+        s.rdata = (double *)s.cdata;
+    }
     return s;
+}
+
+static inline floor_slab floor_slab_alloc(ptrdiff_t nz, ptrdiff_t ny, ptrdiff_t nx)
+{
+    return floor_slab_alloc_prec(nz, ny, nx, 0);
 }
 
 /* HDF5 property lists for all ranks together: MPI-IO file access, collective transfer. */
@@ -180,13 +197,18 @@ typedef struct {
     long peak_rss_kib;
 } floor_usage;
 
+/* plan: the double-precision plan, or NULL when the caller destroyed its (single) plan. */
 static inline floor_usage floor_stop(double t0, fftw_plan plan, floor_slab *s)
 {
-    fftw_destroy_plan(plan);
-    fftw_free(s->cdata);
+    if (plan) fftw_destroy_plan(plan);
+    if (s->cdata) fftw_free(s->cdata);
+    if (s->fcdata) fftwf_free(s->fcdata);
     s->cdata = NULL;
     s->rdata = NULL;
+    s->fcdata = NULL;
+    s->frdata = NULL;
     fftw_mpi_cleanup();
+    fftwf_mpi_cleanup();
 
     const double t_local = MPI_Wtime() - t0;
     struct rusage ru;

@@ -2,10 +2,12 @@
 # bench/run_inspect.sh for `helmix inspect`); sourced by both, runs nothing by itself.
 #
 # It sets here, root, HELMIX, PY, MPIEXEC, TIME, REPEATS and die(), and provides
+#   check_n N                die unless N is an even integer >= 4;
 #   bench_init N MODULE...   check N, REPEATS and the tools (PY must import every MODULE),
 #                            make the work directory $work (removed at exit), empty
 #                            $results and note the load average;
-#   build_floor NAME         compile bench/NAME.c (with floor_common.h) into $work/NAME;
+#   build_floor NAME         compile bench/NAME.c (with floor_common.h, FFTW-MPI in double and
+#                            single precision) into $work/NAME;
 #   run_one LABEL RANKS REP CMD...
 #                            run CMD under /usr/bin/time and append its line to $results;
 #   bench_table REPORT       print the tables: bench/REPORT table $results N REPEATS.
@@ -30,12 +32,16 @@ bench_outputs=()
 
 die() { echo "$prog: $*" >&2; exit 1; }
 
+check_n() {
+    if ! [[ $1 =~ ^[0-9]+$ ]] || (( $1 < 4 || $1 % 2 != 0 )); then
+        die "N must be an even integer >= 4, got '$1'"
+    fi
+}
+
 bench_init() {
     N=$1
     shift
-    if ! [[ $N =~ ^[0-9]+$ ]] || (( N < 4 || N % 2 != 0 )); then
-        die "N must be an even integer >= 4, got '$N'"
-    fi
+    check_n "$N"
     if ! [[ $REPEATS =~ ^[0-9]+$ ]] || (( REPEATS < 1 )); then
         die "REPEATS must be a positive integer, got '$REPEATS'"
     fi
@@ -59,7 +65,7 @@ bench_init() {
 build_floor() {
     # shellcheck disable=SC2046  # pkg-config output is a list of words
     mpicc -O2 -I/usr/include/hdf5/openmpi "$here/$1.c" -o "$work/$1" \
-        $(pkg-config --libs hdf5-openmpi) -lfftw3_mpi -lfftw3 -lm \
+        $(pkg-config --libs hdf5-openmpi) -lfftw3_mpi -lfftw3 -lfftw3f_mpi -lfftw3f -lm \
         || die "could not compile bench/$1.c"
 }
 

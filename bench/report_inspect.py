@@ -22,7 +22,7 @@ sys.dont_write_bytecode = True  # import benchlib without leaving __pycache__ in
 import benchlib as bl  # noqa: E402
 from benchlib import finite, fmt, plural, ratio, verdict  # noqa: E402
 
-AIM_WALL_VS_FLOOR = 1.5
+AIM_WALL_VS_FLOOR = 1.3
 # (label, ranks, row name, floor rank count to compare with)
 ROWS = [("inspect", 1, "helmix inspect", 1), ("inspect", 2, "helmix inspect", 2),
         ("inspect_plot", 2, "helmix inspect --plot", 2),
