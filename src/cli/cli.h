@@ -6,6 +6,7 @@
 #include <mpi.h>
 
 #include "helmix/error.h"
+#include "helmix/recipe.h"
 
 enum { HX_EXIT_OK = 0, HX_EXIT_CHECK = 1, HX_EXIT_INPUT = 2, HX_EXIT_RUNTIME = 3 };
 
@@ -21,6 +22,12 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank);
 int hx_cmd_suite(int argc, char **argv, MPI_Comm comm, int rank);
 int hx_cmd_score(int argc, char **argv, MPI_Comm comm, int rank);
 int hx_cmd_scaling(int argc, char **argv, MPI_Comm comm, int rank);
+int hx_cmd_plan(int argc, char **argv, MPI_Comm comm, int rank);
+
+/* Collective: read recipe `path` (rank 0 reads, every rank parses), apply the --set assignments and
+ * -o (output, may be NULL), validate. One message naming the file on failure (recipe_load.c). */
+hx_status hx_cli_load_recipe(const char *path, const char *output, const char *const *sets, int nsets, hx_recipe *r,
+                             MPI_Comm comm);
 
 /* Print "helmix: error: <message>" on rank 0 and return the exit code of st. */
 int hx_cli_fail(hx_status st, int rank);

@@ -65,6 +65,7 @@ static void usage(FILE *out)
             "  helmix score MANIFEST RESULTS.json [--json F] [--plot F.png|F.pdf]   grade a tool's answers\n"
             "  mpiexec -n P helmix suite DIR [--cells N] [--ranks-hint P] [--quick] [--force]   known-answer cubes\n"
             "  helmix scaling FILE.json... [--table F.md] [--plot F.png|F.pdf] [--kind strong|weak|auto]   scaling study\n"
+            "  helmix plan RECIPE --ranks P [--mem-per-rank SIZE] [--json]   memory, file and work of a make run\n"
             "  helmix template            print an annotated recipe with every key\n"
             "  helmix make --help         options of make and the recipe keys\n"
             "  helmix inspect --help      options of inspect\n"
@@ -108,10 +109,12 @@ int main(int argc, char **argv)
         code = hx_cmd_suite(argc - 2, argv + 2, comm, rank);
     } else if (!strcmp(cmd, "score")) {
         code = hx_cmd_score(argc - 2, argv + 2, comm, rank);
+    } else if (!strcmp(cmd, "plan")) {
+        code = hx_cmd_plan(argc - 2, argv + 2, comm, rank);
     } else if (!strcmp(cmd, "scaling")) {
         code = hx_cmd_scaling(argc - 2, argv + 2, comm, rank);
     } else {
-        st = hx_error_set(HX_ERR_ARG, "unknown command '%s' (commands: make, inspect, suite, score, scaling, template; see helmix --help)", cmd);
+        st = hx_error_set(HX_ERR_ARG, "unknown command '%s' (commands: make, plan, inspect, suite, score, scaling, template; see helmix --help)", cmd);
     }
     if (st != HX_OK) code = hx_cli_fail(st, rank);
     MPI_Comm_free(&comm);
