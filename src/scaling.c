@@ -143,6 +143,16 @@ static hx_status read_run(hx_scaling *s, const char *path, hx_scaling_run *r, do
             r->cells *= g->valuedouble;
         }
     }
+    const cJSON *notes = cJSON_GetObjectItemCaseSensitive(root, "notes"), *nc = cJSON_GetObjectItemCaseSensitive(notes, "cells");
+    if (notes && !cJSON_IsObject(notes)) {
+        st = hx_error_set(HX_ERR_ARG, "%s: not a valid helmix timings file: \"notes\" is not an object", path);
+        goto done;
+    }
+    if (!grid && cJSON_IsNumber(nc) && nc->valuedouble >= 1) { /* no grid: the note "cells" (their number) */
+        r->cells = nc->valuedouble;
+        double side = round(cbrt(r->cells));
+        if (side * side * side == r->cells) r->grid[0] = r->grid[1] = r->grid[2] = (int64_t)side;
+    }
     if ((st = spread_max(path, root, "", "total_seconds", &r->total)) != HX_OK) goto done;
     const cJSON *rss = cJSON_GetObjectItemCaseSensitive(root, "peak_rss_bytes");
     if (!cJSON_IsObject(rss)) {
@@ -313,6 +323,7 @@ void hx_scaling_clear(hx_scaling *s)
 static const char *cells_text(char *buf, size_t len, const hx_scaling_run *r)
 {
     if (!(r->cells > 0)) snprintf(buf, len, "–");
+    else if (r->grid[0] == 0) snprintf(buf, len, "%.0f", r->cells);
     else if (r->grid[0] == r->grid[1] && r->grid[1] == r->grid[2]) snprintf(buf, len, "%lld³", (long long)r->grid[0]);
     else snprintf(buf, len, "%lld×%lld×%lld", (long long)r->grid[0], (long long)r->grid[1], (long long)r->grid[2]);
     return buf;

@@ -110,6 +110,7 @@ static void group_label(char *buf, size_t len, const hx_scaling *s, int g)
     char what[64];
     if (s->kind == HX_SCALING_STRONG) {
         if (!(r->cells > 0)) snprintf(what, sizeof what, "no grid");
+        else if (r->grid[0] == 0) snprintf(what, sizeof what, "%.0f cells", r->cells);
         else if (r->grid[0] == r->grid[1] && r->grid[1] == r->grid[2]) snprintf(what, sizeof what, "%lld^{3} cells", (long long)r->grid[0]);
         else snprintf(what, sizeof what, "%lld×%lld×%lld", (long long)r->grid[0], (long long)r->grid[1], (long long)r->grid[2]);
     } else

@@ -72,6 +72,10 @@ static hx_status parse_args(int argc, char **argv, scaling_args *a)
         else if (!strcmp(s, "--quiet") || !strcmp(s, "-q")) a->quiet = 1;
         else if (!strncmp(s, "--", 2)) {
             const char *eq = strchr(s, '=');
+            size_t len = eq ? (size_t)(eq - s) : strlen(s);
+            if (!((len == 7 && !strncmp(s, "--table", 7)) || (len == 6 && !strncmp(s, "--plot", 6)) ||
+                  (len == 6 && !strncmp(s, "--kind", 6))))
+                return hx_error_set(HX_ERR_ARG, "unknown option '%.*s' (see helmix scaling --help)", (int)len, s);
             char opt[64];
             const char *val;
             if (eq) {
