@@ -231,8 +231,9 @@ static void memory_of(const hx_recipe *r, hx_plan *p, const field_use *f, int nf
     m->peak = fmax(m->synthesis, m->analysis);
 }
 
-/* The regenerated peak of the same recipe on another rank count (no draws: no mode counting). */
-static double regenerated_peak(const hx_recipe *r, int ranks, double baseline_one)
+/* The regenerated peak of the same recipe on another rank count (no draws: no mode counting);
+ * baseline: the one of the planned rank count `from`. */
+static double regenerated_peak(const hx_recipe *r, int ranks, double baseline, int from)
 {
     hx_plan q;
     memset(&q, 0, sizeof q);
@@ -249,7 +250,8 @@ static double regenerated_peak(const hx_recipe *r, int ranks, double baseline_on
     double none[4] = {0, 0, 0, 0};
     int nf = fields_of(r, &q, f);
     hx_plan_memory m;
-    memory_of(r, &q, f, nf, none, hx_plan_baseline(baseline_one, 1, ranks), &m);
+    double shared = hx_plan_baseline(0.0, 1, ranks) - hx_plan_baseline(0.0, 1, from); /* Open MPI's segments */
+    memory_of(r, &q, f, nf, none, baseline + shared, &m);
     return m.peak;
 }
 
@@ -295,9 +297,8 @@ hx_status hx_plan_compute(const hx_recipe *r, int ranks, int threads, double bud
         if (most > p->band_modes_rank) p->band_modes_rank = most;
         kept[i] = 6.0 * (double)most * (p->compute_single ? 4.0 : 8.0);
     }
-    double baseline = hx_plan_baseline(baseline_bytes, 1, ranks);
-    memory_of(r, p, f, nf, kept, baseline, &p->keep);
-    memory_of(r, p, f, nf, none, baseline, &p->regenerate);
+    memory_of(r, p, f, nf, kept, baseline_bytes, &p->keep);
+    memory_of(r, p, f, nf, none, baseline_bytes, &p->regenerate);
 
     /* the choice: keep when it fits with a tenth to spare, else regenerate */
     if (r->draws == HX_DRAWS_KEEP || r->draws == HX_DRAWS_REGENERATE) p->choice = r->draws;
@@ -306,11 +307,11 @@ hx_status hx_plan_compute(const hx_recipe *r, int ranks, int threads, double bud
     p->fits = budget_bytes <= 0 || m->peak <= budget_bytes;
     if (!p->fits) {
         for (int64_t q = ranks + 1; q <= p->max_ranks && !p->fit_ranks; q++)
-            if (regenerated_peak(r, (int)q, baseline_bytes) <= budget_bytes) p->fit_ranks = q;
+            if (regenerated_peak(r, (int)q, baseline_bytes, ranks) <= budget_bytes) p->fit_ranks = q;
         if (!p->compute_single && r->precision == HX_PREC_SINGLE) {
             hx_recipe s = *r;
             s.compute = HX_PREC_SINGLE;
-            p->single_fits = regenerated_peak(&s, ranks, baseline_bytes) <= budget_bytes;
+            p->single_fits = regenerated_peak(&s, ranks, baseline_bytes, ranks) <= budget_bytes;
         }
     }
 

@@ -74,8 +74,9 @@ typedef struct hx_plan {
 } hx_plan;
 
 /* The plan of validated recipe r on `ranks` ranks of `threads` threads each. budget_bytes: a
- * rank's memory (0: none, report only); baseline_bytes: the resident memory of one helmix
- * process after MPI, HDF5 and FFTW are initialised, as hx_plan_baseline gives it. Not
+ * rank's memory (0: none, report only); baseline_bytes: the resident memory of a helmix process
+ * of this run after MPI, HDF5 and FFTW are initialised, taken as it is: a process that measured
+ * it on another rank count passes it through hx_plan_baseline first. Not
  * collective; no MPI, FFTW or HDF5 call. HX_ERR_ARG for ranks or threads < 1 or a grid make
  * refuses. A plan that does not fit its budget is still HX_OK (see hx_plan_verdict). */
 hx_status hx_plan_compute(const hx_recipe *r, int ranks, int threads, double budget_bytes, double baseline_bytes,

@@ -98,7 +98,7 @@ int hx_cmd_plan(int argc, char **argv, MPI_Comm comm, int rank)
     if (st == HX_OK && a.mem) st = hx_plan_parse_size(a.mem, "--mem-per-rank", &budget);
     if (st == HX_OK) st = hx_cli_load_recipe(a.recipe, a.output, sets, a.nsets, &r, comm);
     /* the process as it stands: MPI and HDF5 are up (main.c), the rest is arithmetic */
-    if (st == HX_OK) st = hx_plan_compute(&r, ranks, threads, budget, hx_plan_rss_bytes(), &p);
+    if (st == HX_OK) st = hx_plan_compute(&r, ranks, threads, budget, hx_plan_baseline(hx_plan_rss_bytes(), 1, ranks), &p);
     if (st != HX_OK) return hx_cli_fail(st, rank);
     if (a.json) {
         char *text = hx_plan_json(&p);
