@@ -106,14 +106,15 @@ if [ -z "$helmix" ]; then
 fi
 [ -x "$helmix" ] || die "no helmix executable at '$helmix' (give --helmix PATH or set HELMIX)"
 helmix=$(cd "$(dirname "$helmix")" && pwd)/$(basename "$helmix")
+make_threads=""
+make_help=$("$helmix" make --help 2>/dev/null || true)
+case "$make_help" in *--timings*) ;; *) die "$helmix make has no --timings option (a helmix too old for scaling studies)" ;; esac
+case "$make_help" in *--threads*) make_threads=1 ;; esac
 [ -n "$out" ] || out="scaling-$(date +%Y%m%d-%H%M%S)"
 if [ -e "$out/scaling.md" ] || [ -d "$out/timings" ]; then die "$out already holds a scaling study; choose another --out"; fi
 mkdir -p "$out" 2>/dev/null || die "cannot create the output directory $out"
 out=$(cd "$out" && pwd)
 mkdir -p "$out/recipes" "$out/cubes" "$out/timings" "$out/logs"
-make_threads=""
-make_help=$("$helmix" make --help 2>/dev/null || true)
-case "$make_help" in *--threads*) make_threads=1 ;; esac
 
 # The benchmark cube, an invented scenario: a plain velocity field with a power-law spectrum,
 # half compressive, one seed; nothing in it is tuned to be fast or slow.
