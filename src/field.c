@@ -25,11 +25,41 @@ typedef struct mode_s {
     double weight;       /* 2 for x > 0 (the conjugate partner is not stored), 1 for x = 0 */
 } mode_t_;
 
+/* Kept draws: which modes they belong to, and how far a pass has got. */
+typedef struct cache_key {
+    uint64_t seed;
+    int stream, amplitudes, flip;
+    hx_spectrum_spec spec;
+    const hx_spectrum *sp;
+} cache_key;
+
+enum { CACHE_NONE = 0, CACHE_FILLING, CACHE_VALID };
+
+/* What one thread needs to handle one k-space plane: a row of modes with power, their
+ * wavevectors and draws (nxc each), its place in the kept draws, and the plane's sums. */
+typedef struct work_s {
+    mode_t_ *rm;
+    int64_t (*rn)[3];
+    double (*rw)[6];
+    ptrdiff_t *rx;
+    int64_t cursor;  /* index of the row's first mode in the kept draws                      */
+    double *plane;   /* NSUM per-shell sums over the plane (see accumulate)                   */
+    double power;    /* the plane's share of sum |u_c|^2                                       */
+} work_t;
+
 struct hx_field {
     hx_grid g;
     MPI_Comm comm;
-    fftw_complex *data;
-    fftw_plan plan;
+    hx_field_opts o;
+    void *data;             /* the slab: complex in the compute precision, then real values      */
+    fftw_plan plan;         /* double compute                                                    */
+    fftwf_plan planf;       /* single compute                                                    */
+    double *cache;          /* kept draws, 6 per mode in pass order (double compute) ...          */
+    float *cachef;          /* ... or single compute                                             */
+    int64_t cache_cap;
+    int64_t *plane_off;     /* per local k-space plane: index of its first mode in the kept draws */
+    int cache_state;
+    cache_key key;
     double *ph[3];          /* per axis: half-cell phase exp(i pi n / N) as (re, im) pairs */
     double *kv[3];          /* per axis: wavenumber component n * lmax / L (NAN at Nyquist)  */
     double *kd[3];          /* per axis: (2 N / L) sin(pi n / N), the staggered difference's k  */
@@ -40,9 +70,6 @@ struct hx_field {
     const hx_spectrum *sp;
     int nshell;
     double *sol, *comp, *modes, *a, *b; /* per shell */
-    double *plane;          /* per shell: sums over the current k-space plane y (NSUM of them,
-                             * see accumulate); a plane lies on one rank whole, so these are the
-                             * same whatever the rank count                                */
     hx_sum *loc;            /* the planes' sums added up double-double, so that the reduced sums
                              * do not depend on how the planes are split over ranks        */
     double *tot;            /* the same sums reduced over the ranks                        */
@@ -51,14 +78,22 @@ struct hx_field {
     int ready;              /* summary valid                                              */
     hx_field_summary sum;
     double t_draw, t_fft;
-    /* one row of modes with power, their wavevectors and draws (nxc each) */
-    mode_t_ *rm;
-    int64_t (*rn)[3];
-    double (*rw)[6];
-    ptrdiff_t *rx;
+    /* one workspace per thread; thread j handles plane j of each group of nthreads planes, and
+     * the planes' sums are added up in plane order afterwards, so that the sums (per-plane
+     * sums in plain doubles, then double-double across planes: a plane lies whole on one rank,
+     * and on one thread) are the same whatever the rank and thread counts */
+    int nthreads;
+    work_t *work;
 };
 
-hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags, MPI_Comm comm)
+double hx_field_slab_bytes(const hx_grid *g, const hx_field_opts *o)
+{
+    double c = (double)g->alloc * (o->compute == HX_PREC_SINGLE ? sizeof(fftwf_complex) : sizeof(fftw_complex));
+    double r = o->real_doubles ? (double)g->nz * (double)g->n[1] * (double)g->n[0] * sizeof(double) : 0.0;
+    return c > r ? c : r;
+}
+
+hx_status hx_field_create(hx_field **out, const hx_grid *g, const hx_field_opts *o, MPI_Comm comm)
 {
     hx_status st = HX_OK;
     hx_field *f = calloc(1, sizeof *f);
@@ -66,10 +101,12 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags,
     if (f) {
         f->g = *g;
         f->comm = comm;
-        f->data = fftw_alloc_complex((size_t)g->alloc);
+        f->o = *o;
+        double bytes = hx_field_slab_bytes(g, o);
+        f->data = bytes < 9e18 ? fftw_malloc((size_t)bytes) : NULL;
         if (!f->data)
-            st = hx_error_set(HX_ERR_MEM, "cannot allocate the complex slab (%.1f MiB on rank %d)",
-                              (double)g->alloc * sizeof(fftw_complex) / 1048576.0, g->rank);
+            st = hx_error_set(HX_ERR_MEM, "cannot allocate the synthesis slab (%.1f MiB on rank %d)", bytes / 1048576.0,
+                              g->rank);
         for (int a = 0; a < 3 && st == HX_OK; a++) {
             f->ph[a] = malloc(2 * (size_t)g->n[a] * sizeof(double));
             if (!f->ph[a]) st = hx_error_set(HX_ERR_MEM, "out of memory allocating phase tables");
@@ -92,17 +129,29 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, unsigned plan_flags,
         }
     }
     if (st == HX_OK) {
-        f->rm = malloc((size_t)g->nxc * sizeof *f->rm);
-        f->rn = malloc((size_t)g->nxc * sizeof *f->rn);
-        f->rw = malloc((size_t)g->nxc * sizeof *f->rw);
-        f->rx = malloc((size_t)g->nxc * sizeof *f->rx);
-        if (!f->rm || !f->rn || !f->rw || !f->rx) st = hx_error_set(HX_ERR_MEM, "out of memory for the row buffers");
+        f->nthreads = o->threads > 1 ? o->threads : 1;
+        f->work = calloc((size_t)f->nthreads, sizeof *f->work);
+        f->plane_off = calloc((size_t)g->ny + 1, sizeof *f->plane_off);
+        if (!f->work || !f->plane_off) st = hx_error_set(HX_ERR_MEM, "out of memory for the row buffers");
+        for (int j = 0; j < f->nthreads && st == HX_OK; j++) {
+            work_t *w = &f->work[j];
+            w->rm = malloc((size_t)g->nxc * sizeof *w->rm);
+            w->rn = malloc((size_t)g->nxc * sizeof *w->rn);
+            w->rw = malloc((size_t)g->nxc * sizeof *w->rw);
+            w->rx = malloc((size_t)g->nxc * sizeof *w->rx);
+            if (!w->rm || !w->rn || !w->rw || !w->rx) st = hx_error_set(HX_ERR_MEM, "out of memory for the row buffers");
+        }
     }
     HX_TRY(hx_error_agree(comm, st));
-    f->plan = fftw_mpi_plan_dft_c2r_3d(g->n[2], g->n[1], g->n[0], f->data, (double *)f->data, comm,
-                                       plan_flags | FFTW_MPI_TRANSPOSED_IN);
-    st = f->plan ? HX_OK : hx_error_set(HX_ERR_FFTW, "FFTW could not plan a %tdx%tdx%td c2r transform on rank %d",
-                                        g->n[0], g->n[1], g->n[2], g->rank);
+    if (o->compute == HX_PREC_SINGLE) {
+        fftwf_mpi_init();
+        f->planf = fftwf_mpi_plan_dft_c2r_3d(g->n[2], g->n[1], g->n[0], f->data, f->data, comm,
+                                             o->plan_flags | FFTW_MPI_TRANSPOSED_IN);
+    } else
+        f->plan = fftw_mpi_plan_dft_c2r_3d(g->n[2], g->n[1], g->n[0], f->data, f->data, comm,
+                                           o->plan_flags | FFTW_MPI_TRANSPOSED_IN);
+    st = f->plan || f->planf ? HX_OK : hx_error_set(HX_ERR_FFTW, "FFTW could not plan a %tdx%tdx%td c2r transform on rank %d",
+                                                    g->n[0], g->n[1], g->n[2], g->rank);
     HX_TRY(hx_error_agree(comm, st));
     *out = f;
     return HX_OK;
@@ -173,27 +222,108 @@ fail:
     return st;
 }
 
-/* The modes with power of row (y, z), their draws (one batched call) and, per mode, the
- * complex draws w and k_hat . w. Returns how many; rx[i] is the x index of mode i. */
-static int row_modes(hx_field *f, ptrdiff_t y, ptrdiff_t z)
+/* The modes with power of row (y, z) and their draws: from the kept draws when a previous
+ * pass kept them, else one batched call (kept now when this pass fills the cache). In single
+ * compute the draws are rounded to single precision whichever way they come, so kept and
+ * regenerated draws give the same bits. Returns how many; rx[i] is the x index of mode i. */
+static int row_modes(const hx_field *f, work_t *w, ptrdiff_t y, ptrdiff_t z)
 {
     int n = 0;
     for (ptrdiff_t x = 0; x < f->g.nxc; x++)
-        if (mode_at(f, y, z, x, &f->rm[n])) {
-            for (int a = 0; a < 3; a++) f->rn[n][a] = f->rm[n].n[a];
-            f->rx[n++] = x;
+        if (mode_at(f, y, z, x, &w->rm[n])) {
+            for (int a = 0; a < 3; a++) w->rn[n][a] = w->rm[n].n[a];
+            w->rx[n++] = x;
         }
-    hx_rng_vectors(f->d->seed, (uint64_t)f->d->stream, (const int64_t(*)[3])f->rn, n, f->d->amplitudes, f->d->flip,
-                   f->rw);
+    int single = f->o.compute == HX_PREC_SINGLE;
+    if (f->cache_state == CACHE_VALID) {
+        if (single)
+            for (int i = 0; i < n; i++)
+                for (int j = 0; j < 6; j++) w->rw[i][j] = f->cachef[6 * (w->cursor + i) + j];
+        else memcpy(w->rw, f->cache + 6 * w->cursor, (size_t)n * sizeof *w->rw);
+    } else {
+        hx_rng_vectors(f->d->seed, (uint64_t)f->d->stream, (const int64_t(*)[3])w->rn, n, f->d->amplitudes, f->d->flip,
+                       w->rw);
+        if (single)
+            for (int i = 0; i < n; i++)
+                for (int j = 0; j < 6; j++) w->rw[i][j] = (float)w->rw[i][j];
+        if (f->cache_state == CACHE_FILLING) {
+            if (single)
+                for (int i = 0; i < n; i++)
+                    for (int j = 0; j < 6; j++) f->cachef[6 * (w->cursor + i) + j] = (float)w->rw[i][j];
+            else memcpy(f->cache + 6 * w->cursor, w->rw, (size_t)n * sizeof *w->rw);
+        }
+    }
+    w->cursor += n;
     return n;
+}
+
+/* The modes of the current descriptor with power on this rank, plane by plane: where each
+ * plane's draws start in a full cache, and how many it holds. */
+static int64_t count_band(hx_field *f)
+{
+    const hx_grid *g = &f->g;
+    int64_t n = 0;
+    mode_t_ m;
+    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++) {
+        f->plane_off[y - g->y0] = n;
+        for (ptrdiff_t z = 0; z < g->n[2]; z++)
+            for (ptrdiff_t x = 0; x < g->nxc; x++) n += mode_at(f, y, z, x, &m);
+    }
+    f->plane_off[g->ny] = n;
+    return n;
+}
+
+static void drop_cache(hx_field *f)
+{
+    free(f->cache);
+    free(f->cachef);
+    f->cache = NULL;
+    f->cachef = NULL;
+    f->cache_cap = 0;
+    f->cache_state = CACHE_NONE;
+}
+
+/* Before a pass over the modes of the current descriptor: reuse the kept draws when they are
+ * this descriptor's (same seed, stream, amplitudes, flip and mode set), else make room to keep
+ * them during this pass. A rank that cannot allocate simply regenerates: the bits are the same. */
+static void begin_pass(hx_field *f)
+{
+    if (!f->o.keep_draws) return;
+    cache_key k;
+    memset(&k, 0, sizeof k);
+    k.seed = f->d->seed, k.stream = f->d->stream, k.amplitudes = f->d->amplitudes, k.flip = f->d->flip;
+    k.spec = f->d->spectrum, k.sp = f->sp;
+    if (f->cache_state == CACHE_VALID && !memcmp(&k, &f->key, sizeof k)) return;
+    drop_cache(f);
+    f->key = k;
+    int64_t n = count_band(f);
+    size_t each = f->o.compute == HX_PREC_SINGLE ? sizeof(float) : sizeof(double);
+    void *p = n > 0 ? malloc((size_t)n * 6 * each) : NULL;
+    if (!p) return;
+    if (f->o.compute == HX_PREC_SINGLE) f->cachef = p;
+    else f->cache = p;
+    f->cache_cap = n;
+    f->cache_state = CACHE_FILLING;
+}
+
+/* After a pass: a cache that was filled by it is complete and valid. */
+static void end_pass(hx_field *f)
+{
+    if (f->cache_state == CACHE_FILLING) f->cache_state = CACHE_VALID;
+}
+
+double hx_field_kept_bytes(const hx_field *f)
+{
+    return f->cache_state == CACHE_NONE ? 0.0 : (double)f->cache_cap * 6 *
+                                                   (f->o.compute == HX_PREC_SINGLE ? sizeof(float) : sizeof(double));
 }
 
 /* The draws of mode i as three complex numbers and k_hat . w. A scalar keeps only the first
  * draw, with no compressive part: then every sum and fill below serves it unchanged. */
-static inline void draws_of(const hx_field *f, int i, double complex w[3], double complex *kw)
+static inline void draws_of(const hx_field *f, const work_t *ws, int i, double complex w[3], double complex *kw)
 {
-    const double *v = f->rw[i];
-    const mode_t_ *m = &f->rm[i];
+    const double *v = ws->rw[i];
+    const mode_t_ *m = &ws->rm[i];
     *kw = 0;
     if (f->d->ncomp == 1) {
         w[0] = v[0] + I * v[1];
@@ -214,11 +344,13 @@ static void free_shells(hx_field *f)
     free(f->a);
     free(f->b);
     free(f->loc);
-    free(f->plane);
     free(f->tot);
+    for (int j = 0; j < f->nthreads && f->work; j++) {
+        free(f->work[j].plane);
+        f->work[j].plane = NULL;
+    }
     f->sol = f->comp = f->modes = f->a = f->b = f->tot = NULL;
     f->loc = NULL;
-    f->plane = NULL;
 }
 
 /* Add one mode's unscaled solenoidal and compressive energy and its count to shell sums. */
@@ -235,12 +367,12 @@ static inline void accumulate(double *loc, int ns, const mode_t_ *m, const doubl
 }
 
 /* Add the current plane's sums to the running double-double sums and clear them. */
-static void flush_plane(hx_field *f)
+static void flush_plane(hx_field *f, double *plane)
 {
     for (int i = 0; i < NSUM * f->nshell; i++)
-        if (f->plane[i] != 0) {
-            hx_sum_add(&f->loc[i], f->plane[i]);
-            f->plane[i] = 0;
+        if (plane[i] != 0) {
+            hx_sum_add(&f->loc[i], plane[i]);
+            plane[i] = 0;
         }
 }
 
@@ -259,9 +391,11 @@ static void count_modes(hx_field *f, double *modes, int ns)
                 int s = (int)(sqrt(k2) + 0.5);
                 if (k2 > 0 && s < ns) modes[s] += (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
             }
-            if (z == g->n[2] - 1) flush_plane(f);
+            if (z == g->n[2] - 1) flush_plane(f, modes - 2 * ns);
         }
 }
+
+static double each_plane(hx_field *f, int c, int sums);
 
 /* The mix rule of a field: a scalar is "all solenoidal" (its draws have no k_hat part), held
  * exactly at its rms. */
@@ -277,7 +411,7 @@ static hx_status finish_mix(hx_field *f)
 {
     hx_status st = HX_OK;
     int ns = f->nshell;
-    count_modes(f, f->plane + 2 * ns, ns);
+    count_modes(f, f->work[0].plane + 2 * ns, ns);
     HX_TRY(hx_sum_allreduce(f->loc, NSUM * ns, f->comm));
     for (int i = 0; i < NSUM * ns; i++) f->tot[i] = hx_sum_value(&f->loc[i]);
     memcpy(f->sol, f->tot, (size_t)ns * sizeof *f->sol);
@@ -305,7 +439,6 @@ fail:
 hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
 {
     hx_status st = HX_OK;
-    const hx_grid *g = &f->g;
     f->d = d;
     f->sp = sp;
     f->ready = 0;
@@ -319,7 +452,7 @@ hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
     HX_ALLOC(f->a, ns);
     HX_ALLOC(f->b, ns);
     HX_ALLOC(f->loc, NSUM * (size_t)ns);
-    HX_ALLOC(f->plane, NSUM * (size_t)ns);
+    for (int j = 0; j < f->nthreads; j++) HX_ALLOC(f->work[j].plane, NSUM * (size_t)ns);
     HX_ALLOC(f->tot, NSUM * (size_t)ns);
     /* exact = none needs no look-ahead: the factors are fixed weights up to one global
      * scale, so the sums ride along with the first component and the scale is applied to it
@@ -331,17 +464,10 @@ hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
         return HX_OK;
     }
     double t0 = MPI_Wtime();
-    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
-        for (ptrdiff_t z = 0; z < g->n[2]; z++) {
-            int n = row_modes(f, y, z);
-            for (int i = 0; i < n; i++) {
-                double complex w[3], kw;
-                draws_of(f, i, w, &kw);
-                accumulate(f->plane, ns, &f->rm[i], w, kw);
-            }
-            if (z == g->n[2] - 1) flush_plane(f);
-        }
+    hx_timer_begin(f->o.timer, "draw");
+    each_plane(f, -1, 1);
     f->t_draw += MPI_Wtime() - t0;
+    hx_timer_end(f->o.timer, "draw", 0, 0);
     st = finish_mix(f);
 fail:
     if (st != HX_OK) free_shells(f);
@@ -382,37 +508,78 @@ static inline double complex coefficient(const hx_field *f, const mode_t_ *m, in
     return (u[c] * kk - m->khat[c] * ku) / kp;
 }
 
-/* Write component c of every local mode into the slab (transposed layout y, z, x); with
- * sums, also add every mode's energies to the local shell sums. Cell-centred values get the
- * half-cell phase on every axis; a face-centred component c on every axis but c. */
-static double fill(hx_field *f, int c, int sums)
+/* Write component c of every mode of local plane y into the slab (transposed layout y, z, x);
+ * with sums, also add every mode's energies to the plane's shell sums. Cell-centred values get
+ * the half-cell phase on every axis; a face-centred component c on every axis but c. */
+static void fill_plane(const hx_field *f, work_t *ws, ptrdiff_t y, int c, int sums)
 {
     const hx_grid *g = &f->g;
     int face = f->d->stagger == HX_STAGGER_FACE;
     int plain = !face && f->d->part == HX_PART_ALL; /* the common case: the whole field at cell centres */
-    double power = 0; /* sum over both halves of |u_c|^2: the variance of component c */
-    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
-        for (ptrdiff_t z = 0; z < g->n[2]; z++) {
-            double complex *row = (double complex *)f->data + ((y - g->y0) * g->n[2] + z) * g->nxc;
-            double complex py = face && c == 1 ? 1.0 : f->ph[1][2 * y] + I * f->ph[1][2 * y + 1];
-            double complex pz = face && c == 2 ? 1.0 : f->ph[2][2 * z] + I * f->ph[2][2 * z + 1];
-            double complex pyz = py * pz;
-            memset(row, 0, (size_t)g->nxc * sizeof *row);
-            int n = row_modes(f, y, z);
-            for (int i = 0; i < n; i++) {
-                const mode_t_ *m = &f->rm[i];
-                ptrdiff_t x = f->rx[i];
-                double complex w[3], kw;
-                draws_of(f, i, w, &kw);
-                if (sums) accumulate(f->plane, f->nshell, m, w, kw);
-                double a = f->a[m->shell], b = f->b[m->shell];
-                double complex u = plain ? whole(m, c, w, kw, a, b) : coefficient(f, m, c, w, kw, a, b);
-                double complex px = face && c == 0 ? 1.0 : f->ph[0][2 * x] + I * f->ph[0][2 * x + 1];
-                row[x] = u * pyz * px;
-                power += m->weight * creal(u * conj(u));
-            }
-            if (sums && z == g->n[2] - 1) flush_plane(f);
+    int single = f->o.compute == HX_PREC_SINGLE;
+    size_t csz = single ? sizeof(float complex) : sizeof(double complex);
+    for (ptrdiff_t z = 0; z < g->n[2]; z++) {
+        char *row = (char *)f->data + (size_t)((y - g->y0) * g->n[2] + z) * (size_t)g->nxc * csz;
+        double complex py = face && c == 1 ? 1.0 : f->ph[1][2 * y] + I * f->ph[1][2 * y + 1];
+        double complex pz = face && c == 2 ? 1.0 : f->ph[2][2 * z] + I * f->ph[2][2 * z + 1];
+        double complex pyz = py * pz;
+        memset(row, 0, (size_t)g->nxc * csz);
+        int n = row_modes(f, ws, y, z);
+        for (int i = 0; i < n; i++) {
+            const mode_t_ *m = &ws->rm[i];
+            ptrdiff_t x = ws->rx[i];
+            double complex w[3], kw;
+            draws_of(f, ws, i, w, &kw);
+            if (sums) accumulate(ws->plane, f->nshell, m, w, kw);
+            double a = f->a[m->shell], b = f->b[m->shell];
+            double complex u = plain ? whole(m, c, w, kw, a, b) : coefficient(f, m, c, w, kw, a, b);
+            double complex px = face && c == 0 ? 1.0 : f->ph[0][2 * x] + I * f->ph[0][2 * x + 1];
+            double complex v = u * pyz * px;
+            if (single) ((float complex *)row)[x] = (float complex)v;
+            else ((double complex *)row)[x] = v;
+            ws->power += m->weight * creal(u * conj(u));
         }
+    }
+}
+
+/* The sums of the mix over local plane y. */
+static void mix_plane(const hx_field *f, work_t *ws, ptrdiff_t y)
+{
+    for (ptrdiff_t z = 0; z < f->g.n[2]; z++) {
+        int n = row_modes(f, ws, y, z);
+        for (int i = 0; i < n; i++) {
+            double complex w[3], kw;
+            draws_of(f, ws, i, w, &kw);
+            accumulate(ws->plane, f->nshell, &ws->rm[i], w, kw);
+        }
+    }
+}
+
+/* One pass over the local k-space planes: the mix's sums (c < 0) or component c (with sums
+ * if asked). Planes go to the threads in groups; the planes' sums and powers are added up in
+ * plane order after each group, so every thread count gives the same bits. Returns sum
+ * |u_c|^2 over the local modes (weight 2 for kx > 0). */
+static double each_plane(hx_field *f, int c, int sums)
+{
+    const hx_grid *g = &f->g;
+    double power = 0;
+    begin_pass(f);
+    for (ptrdiff_t y0 = 0; y0 < g->ny; y0 += f->nthreads) {
+        int m = g->ny - y0 < f->nthreads ? (int)(g->ny - y0) : f->nthreads;
+#pragma omp parallel for num_threads(m) schedule(static, 1) if (m > 1)
+        for (int j = 0; j < m; j++) {
+            work_t *w = &f->work[j];
+            w->cursor = f->plane_off[y0 + j];
+            w->power = 0;
+            if (c < 0) mix_plane(f, w, g->y0 + y0 + j);
+            else fill_plane(f, w, g->y0 + y0 + j, c, sums);
+        }
+        for (int j = 0; j < m; j++) {
+            power += f->work[j].power;
+            if (c < 0 || sums) flush_plane(f, f->work[j].plane);
+        }
+    }
+    end_pass(f);
     return power;
 }
 
@@ -424,6 +591,25 @@ static void compact(hx_field *f, hx_precision prec, double scale, hx_moments *mo
     const hx_grid *g = &f->g;
     const double *src = (const double *)f->data;
     ptrdiff_t rows = g->nz * g->n[1], nx = g->n[0], stride = 2 * g->nxc;
+    if (f->o.compute == HX_PREC_SINGLE) {
+        const float *fs = (const float *)f->data;
+        if (prec == HX_PREC_SINGLE) {
+            float *dst = (float *)f->data;
+            for (ptrdiff_t r = 0; r < rows; r++) {
+                if (scale == 1.0) memmove(dst + r * nx, fs + r * stride, (size_t)nx * sizeof *dst);
+                else
+                    for (ptrdiff_t i = 0; i < nx; i++) dst[r * nx + i] = (float)(scale * fs[r * stride + i]);
+                hx_moments_add_floats(mom, dst + r * nx, nx);
+            }
+        } else { /* widen back to front: every double lands at or after the float it comes from
+                  * (8 (r nx + i) >= 4 (r (nx + 2) + i) for nx >= 2); the slab holds the doubles */
+            double *dst = (double *)f->data;
+            for (ptrdiff_t r = rows - 1; r >= 0; r--)
+                for (ptrdiff_t i = nx - 1; i >= 0; i--) dst[r * nx + i] = scale * (double)fs[r * stride + i];
+            for (ptrdiff_t r = 0; r < rows; r++) hx_moments_add_doubles(mom, dst + r * nx, nx);
+        }
+        return;
+    }
     if (prec == HX_PREC_DOUBLE) {
         double *dst = (double *)f->data;
         for (ptrdiff_t r = 0; r < rows; r++) {
@@ -447,9 +633,13 @@ hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void *
     if (!f->d || c < 0 || c >= f->d->ncomp)
         HX_FAIL(HX_ERR_ARG, "component %d requested before hx_field_mix or out of 0..%d", c, f->d ? f->d->ncomp - 1 : 2);
     if (f->deferred && c != 0 && !f->ready) HX_FAIL(HX_ERR_ARG, "with exact = none component 0 must come first");
+    if (prec == HX_PREC_DOUBLE && f->o.compute == HX_PREC_SINGLE && !f->o.real_doubles)
+        HX_FAIL(HX_ERR_ARG, "double values asked of a single-precision synthesis built without room for them");
     int sums = f->deferred && !f->ready;
     double t0 = MPI_Wtime();
-    double power = fill(f, c, sums), scale = 1.0;
+    hx_timer_begin(f->o.timer, "draw");
+    double power = each_plane(f, c, sums), scale = 1.0;
+    hx_timer_end(f->o.timer, "draw", 0, 0);
     double t1 = MPI_Wtime();
     if (sums) {
         HX_TRY(hx_error_agree(f->comm, finish_mix(f)));
@@ -457,7 +647,10 @@ hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void *
     }
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &power, 1, MPI_DOUBLE, MPI_SUM, f->comm));
     double t2 = MPI_Wtime();
-    fftw_execute(f->plan);
+    hx_timer_begin(f->o.timer, "transform");
+    if (f->planf) fftwf_execute(f->planf);
+    else fftw_execute(f->plan);
+    hx_timer_end(f->o.timer, "transform", 0, 1);
     double t3 = MPI_Wtime();
     HX_ALLOC(local, 1);
     hx_moments_init(local, 0.0, scale * sqrt(power)); /* mean 0: the k = 0 mode is empty */
@@ -483,6 +676,8 @@ void hx_field_destroy(hx_field **f)
 {
     if (!f || !*f) return;
     if ((*f)->plan) fftw_destroy_plan((*f)->plan);
+    if ((*f)->planf) fftwf_destroy_plan((*f)->planf);
+    drop_cache(*f);
     fftw_free((*f)->data);
     for (int a = 0; a < 3; a++) {
         free((*f)->ph[a]);
@@ -491,11 +686,15 @@ void hx_field_destroy(hx_field **f)
     }
     free((*f)->tab_amp);
     free((*f)->tab_k);
-    free((*f)->rm);
-    free((*f)->rn);
-    free((*f)->rw);
-    free((*f)->rx);
     free_shells(*f);
+    for (int j = 0; j < (*f)->nthreads && (*f)->work; j++) {
+        free((*f)->work[j].rm);
+        free((*f)->work[j].rn);
+        free((*f)->work[j].rw);
+        free((*f)->work[j].rx);
+    }
+    free((*f)->work);
+    free((*f)->plane_off);
     free(*f);
     *f = NULL;
 }

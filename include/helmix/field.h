@@ -5,7 +5,10 @@
  *
  * Memory: one complex slab per rank (the transform is in place and the result is compacted
  * and converted to the output precision inside the same buffer), so peak memory does not
- * grow with the number of components. Draws are regenerated in every pass instead of stored.
+ * grow with the number of components. The slab and the transform are in the compute
+ * precision (single: half the memory and time). Draws are either kept from the first pass
+ * over a descriptor's modes (6 values per in-band mode, in the compute precision) or
+ * regenerated in every pass; both give the same bits.
  * The field is the Fourier series of the periodic box evaluated at cell centres
  * x = (i + 1/2) dx, with Nyquist modes and k = 0 empty, so coefficients depend only on
  * (seed, integer wavevector, component): the same at every resolution and rank count. */
@@ -19,8 +22,21 @@
 #include "helmix/error.h"
 #include "helmix/grid.h"
 #include "helmix/spectrum.h"
+#include "helmix/timer.h"
 
 typedef struct hx_field hx_field;
+
+/* How a synthesis object is built. */
+typedef struct hx_field_opts {
+    hx_precision compute; /* precision of the slab and the transform                            */
+    int real_doubles;     /* components will be asked for in double: the slab holds nz*Ny*Nx
+                           * doubles even in single compute                                      */
+    int keep_draws;       /* keep the draws of the first pass over a descriptor's modes; a rank
+                           * that cannot allocate them regenerates (same bits, no agreement needed) */
+    unsigned plan_flags;  /* FFTW planner flags (FFTW_ESTIMATE, FFTW_MEASURE, ...)                 */
+    int threads;          /* threads for the k-space passes (the same bits for any count)        */
+    hx_timer *timer;      /* phases "draw" and "transform", or NULL                               */
+} hx_field_opts;
 
 /* What the k-space pass measured and the mix solved (global, identical on every rank). */
 typedef struct hx_field_summary {
@@ -37,10 +53,16 @@ typedef struct hx_field_summary {
     const double *power_sq; /* per shell: sum of (weight A(k)^2)^2, for the scatter of shell energies  */
 } hx_field_summary;
 
-/* Collective: allocate the slab of grid g and plan the in-place c2r transform.
- * plan_flags are FFTW planner flags (FFTW_ESTIMATE, FFTW_MEASURE, ...). HX_ERR_FFTW when
- * FFTW returns no plan, HX_ERR_MEM when the slab cannot be allocated (agreed on all ranks). */
-hx_status hx_field_create(hx_field **f, const hx_grid *g, unsigned plan_flags, MPI_Comm comm);
+/* Collective: allocate the slab of grid g and plan the in-place c2r transform as o says.
+ * HX_ERR_FFTW when FFTW returns no plan, HX_ERR_MEM when the slab cannot be allocated
+ * (agreed on all ranks). */
+hx_status hx_field_create(hx_field **f, const hx_grid *g, const hx_field_opts *o, MPI_Comm comm);
+
+/* Bytes of the synthesis slab hx_field_create allocates for g and o on this rank. */
+double hx_field_slab_bytes(const hx_grid *g, const hx_field_opts *o);
+
+/* Bytes of kept draws this rank holds now (0 when regenerating). */
+double hx_field_kept_bytes(const hx_field *f);
 
 /* Collective: draw every mode of field d once, sum the solenoidal and compressive energies per
  * shell, reduce them over comm and solve the mix (hx_mix_solve) for the rms d->rms. d and sp

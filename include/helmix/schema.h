@@ -28,6 +28,7 @@
 
 /* attributes of /helmix that inspect reads back */
 #define HX_ATTR_VRMS "vrms"
+#define HX_ATTR_COMPUTE "compute_precision" /* precision of the synthesis: single or double */
 #define HX_ATTR_EXACT "exact"
 #define HX_ATTR_AMPLITUDES "amplitudes"
 #define HX_ATTR_FRACTION_TARGET "compressive_fraction_target"

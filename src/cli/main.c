@@ -77,8 +77,10 @@ static void usage(FILE *out)
 
 int main(int argc, char **argv)
 {
-    if (MPI_Init(&argc, &argv) != MPI_SUCCESS) {
-        fprintf(stderr, "helmix: MPI_Init failed\n");
+    /* threads (--threads) run inside FFTW and the k-space loops; only the main thread calls MPI */
+    int provided = MPI_THREAD_SINGLE;
+    if (MPI_Init_thread(&argc, &argv, MPI_THREAD_FUNNELED, &provided) != MPI_SUCCESS) {
+        fprintf(stderr, "helmix: MPI_Init_thread failed\n");
         return HX_EXIT_RUNTIME;
     }
     MPI_Comm comm;
