@@ -15,10 +15,12 @@
 #include "helmix/diag.h"
 #include "helmix/flow.h"
 #include "helmix/inspect.h"
+#include "helmix/fft.h"
 #include "helmix/field.h"
 #include "helmix/grid.h"
 #include "helmix/io.h"
 #include "helmix/mix.h"
+#include "helmix/plan.h"
 #include "helmix/schema.h"
 #include "helmix/spectrum.h"
 #include "helmix/sum.h"
@@ -61,6 +63,9 @@ static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *
     int64_t flip = r->flip;
     HX_TRY(hx_io_attr_int64s(io, G, "flip", &flip, 0));
     HX_TRY(hx_io_attr_string(io, G, "precision", r->precision == HX_PREC_DOUBLE ? "double" : "single"));
+    HX_TRY(hx_io_attr_string(io, G, HX_ATTR_COMPUTE, r->compute == HX_PREC_DOUBLE ? "double" : "single"));
+    HX_TRY(hx_io_attr_string(io, G, "draws", res->kept_bytes > 0 ? "kept" : "regenerated"));
+    HX_TRY(hx_io_attr_doubles(io, G, "kept_draw_bytes", &res->kept_bytes, 0));
     HX_TRY(hx_io_attr_string(io, G, HX_ATTR_WEIGHT, r->weight == HX_WEIGHT_MASS ? "mass" : "volume"));
     HX_TRY(hx_io_attr_string(io, G, HX_ATTR_FRACTION_OF, res->as_written ? "written" : "synthesis"));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_plan", &res->t_plan, 0));
@@ -267,7 +272,19 @@ typedef struct run_t {
     int vel_id, rho_id;
     double *rho;   /* this rank's density (nz * Ny * Nx), NULL without one */
     hx_make_result res;
+    hx_timer *timer;
 } run_t;
+
+/* Write component c of field id (from doubles, or in the file's precision) as phase "write". */
+static hx_status timed_write(run_t *R, int id, int c, const void *slab, int doubles)
+{
+    const hx_grid *g = &R->g;
+    hx_timer_begin(R->timer, "write");
+    hx_status st = doubles ? hx_io_write_doubles(R->io, id, c, slab) : hx_io_write_component(R->io, id, c, slab);
+    double bytes = (double)g->nz * (double)g->n[1] * (double)g->n[0] * (R->r->precision == HX_PREC_DOUBLE ? 8.0 : 4.0);
+    hx_timer_end(R->timer, "write", bytes, 0);
+    return st;
+}
 
 static inline double cell_distance(const run_t *R, ptrdiff_t z, ptrdiff_t y, ptrdiff_t x)
 {
@@ -327,7 +344,7 @@ static hx_status make_density(run_t *R)
     double N = (double)hx_grid_cells(g), ml = hx_sum_value(&mom[1]) / N;
     R->res.density_mean = hx_sum_value(&mom[0]) / N;
     R->res.sigma_s_written = sqrt(fmax(hx_sum_value(&mom[2]) / N - ml * ml, 0.0));
-    HX_TRY(hx_io_write_doubles(R->io, R->rho_id, 0, R->rho));
+    HX_TRY(timed_write(R, R->rho_id, 0, R->rho, 1));
     hx_log_say(R->log, HX_LOG_INFO, "density: %s%s, mean %.6g, sigma of ln rho %.4g; %.2f s",
                hx_density_model_name(r->density_model), r->clumps ? " with clumps" : "", R->res.density_mean,
                R->res.sigma_s_written, MPI_Wtime() - t);
@@ -453,7 +470,7 @@ static hx_status velocity_one_pass(run_t *R, hx_desc *dv, const hx_spectrum *sp,
         HX_TRY(hx_field_component(R->f, c, r->precision, &slab, &mom));
         R->res.t_synth[c] = MPI_Wtime() - t;
         t = MPI_Wtime();
-        HX_TRY(hx_io_write_component(R->io, R->vel_id, c, slab));
+        HX_TRY(timed_write(R, R->vel_id, c, slab, 0));
         R->res.t_write[c] = MPI_Wtime() - t;
         if (R->rho) hx_flow_add(fl, g, c, slab, r->precision, R->rho, &R->cloud);
         hx_diag_set_moments(diag, c, &mom);
@@ -519,7 +536,7 @@ static hx_status velocity_shaped(run_t *R, hx_desc *dv, const hx_spectrum *sp, h
         hx_flow_add(fl, g, c, v, HX_PREC_DOUBLE, R->rho, &R->cloud);
         R->res.t_synth[c] = MPI_Wtime() - t;
         t = MPI_Wtime();
-        HX_TRY(hx_io_write_doubles(R->io, R->vel_id, c, v));
+        HX_TRY(timed_write(R, R->vel_id, c, v, 1));
         R->res.t_write[c] = MPI_Wtime() - t;
         hx_log_say(R->log, HX_LOG_INFO, "velocity_%c: synthesized in %.2f s, written in %.2f s", "xyz"[c],
                    R->res.t_synth[c], R->res.t_write[c]);
@@ -545,7 +562,7 @@ static hx_status write_parts(run_t *R, const hx_desc *dv, const hx_spectrum *sp)
         for (int c = 0; c < 3; c++) {
             const void *slab = NULL;
             HX_TRY(hx_field_component(R->f, c, R->r->precision, &slab, NULL));
-            HX_TRY(hx_io_write_component(R->io, id, c, slab));
+            HX_TRY(timed_write(R, id, c, slab, 0));
         }
         hx_log_say(R->log, HX_LOG_INFO, "%s written", d.name);
     }
@@ -593,7 +610,7 @@ static hx_status make_magnetic(run_t *R, const hx_spectrum *sp, int cell_id, int
                 v[i] += res->b0[c];
                 s2 += v[i] * v[i];
             }
-            HX_TRY(hx_io_write_doubles(R->io, pass ? face_id : cell_id, c, v));
+            HX_TRY(timed_write(R, pass ? face_id : cell_id, c, v, 1));
         }
         HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &s2, 1, MPI_DOUBLE, MPI_SUM, R->comm));
         *(pass ? &res->b_face_rms : &res->b_rms) = sqrt(s2 / (double)hx_grid_cells(g));
@@ -656,6 +673,38 @@ fail:
     return st;
 }
 
+/* The plan of this run, agreed on every rank: the largest baseline and the smallest budget
+ * (--mem-per-rank, else the node's available memory shared by its ranks). A run that cannot fit
+ * is refused before anything large is allocated: exit 2 against the user's budget, 3 against
+ * the machine's. */
+static hx_status make_plan(const hx_recipe *r, const hx_run_opts *run, const hx_grid *g, const hx_log *log,
+                           hx_plan *p, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    MPI_Comm node = MPI_COMM_NULL;
+    int on_node = 1;
+    HX_MPI(MPI_Comm_split_type(comm, MPI_COMM_TYPE_SHARED, 0, MPI_INFO_NULL, &node));
+    HX_MPI(MPI_Comm_size(node, &on_node));
+    double given = run ? run->mem_per_rank : 0.0;
+    double v[2] = {hx_plan_rss_bytes(), -(given > 0 ? given : hx_plan_mem_available() / on_node)};
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, v, 2, MPI_DOUBLE, MPI_MAX, comm));
+    st = hx_plan_compute(r, g->size, hx_fft_threads(run), -v[1] > 0 ? -v[1] : 0.0, hx_plan_baseline(v[0], g->size, g->size), p);
+    if (st == HX_OK && r->draws != HX_DRAWS_AUTO) p->choice = r->draws;
+    if (st == HX_OK && (st = hx_plan_verdict(p)) != HX_OK && !(given > 0)) {
+        char msg[1024];
+        snprintf(msg, sizeof msg, "%s", hx_error_message());
+        st = hx_error_set(HX_ERR_MEM, "%s (the budget is this node's available memory shared by its %d rank%s)", msg,
+                          on_node, on_node > 1 ? "s" : "");
+    }
+    HX_TRY(hx_error_agree(comm, st));
+    char line[512];
+    hx_plan_summary(p, line, sizeof line);
+    hx_log_say(log, HX_LOG_INFO, "%s", line);
+fail:
+    if (node != MPI_COMM_NULL) MPI_Comm_free(&node);
+    return st;
+}
+
 hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, const hx_log *log, MPI_Comm comm,
                       hx_make_result *res_out)
 {
@@ -670,7 +719,11 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     memset(&diag, 0, sizeof diag);
     double t0 = MPI_Wtime(), t;
 
+    hx_timer *tm = run ? run->timer : NULL;
+    R.timer = tm;
     HX_TRY(hx_io_check_target(r->file, force, comm));
+    hx_timer_begin(tm, "plan");
+    HX_TRY(hx_fft_begin(run, comm));
     HX_TRY(hx_grid_init(&R.g, r->cells, r->box, comm));
     HX_TRY(hx_error_agree(comm, hx_cloud_init(&R.cloud, r)));
     HX_TRY(hx_spectrum_create(&sp, &r->spectrum, comm));
@@ -678,12 +731,20 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     if (R.cloud.has_cloud && R.cloud.radius < 4.0 * dx) /* legal, but the profile is a handful of cells */
         hx_log_say(log, HX_LOG_QUIET, "warning: the cloud radius is %.2g cells: its profile is not resolved on this grid",
                    R.cloud.radius / dx);
-    hx_log_say(log, HX_LOG_INFO, "plan: %tdx%tdx%td cells on %d rank%s, %.1f MiB complex slab per rank%s", R.g.n[0],
-               R.g.n[1], R.g.n[2], R.g.size, R.g.size > 1 ? "s" : "", (double)R.g.alloc * 16.0 / 1048576.0,
-               r->density_model != HX_DENSITY_NONE ? " plus one real slab for the density" : "");
+    hx_plan plan;
+    HX_TRY(make_plan(r, run, &R.g, log, &plan, comm));
     t = MPI_Wtime();
-    HX_TRY(hx_field_create(&R.f, &R.g, FFTW_ESTIMATE, comm));
+    hx_field_opts fo = {(hx_precision)r->compute, hx_make_needs_doubles(r), plan.choice == HX_DRAWS_KEEP,
+                        hx_fft_flags(run), hx_fft_threads(run), tm};
+    HX_TRY(hx_field_create(&R.f, &R.g, &fo, comm));
+    HX_TRY(hx_fft_end(run, comm));
     R.res.t_plan = MPI_Wtime() - t;
+    hx_timer_end(tm, "plan", 0, 0);
+    hx_timer_grid(tm, (int64_t[3]){R.g.n[0], R.g.n[1], R.g.n[2]});
+    hx_timer_note(tm, "threads", hx_fft_threads(run));
+    hx_timer_note_text(tm, "compute", r->compute == HX_PREC_DOUBLE ? "double" : "single");
+    hx_timer_note_text(tm, "precision", r->precision == HX_PREC_DOUBLE ? "double" : "single");
+    hx_timer_note_text(tm, "effort", hx_fft_effort_name(run ? run->effort : HX_EFFORT_ESTIMATE));
     hx_log_say(log, HX_LOG_INFO, "plan: done in %.2f s", R.res.t_plan);
 
     HX_TRY(hx_io_create(&R.io, r->file, &R.g, r->precision, &(hx_io_tuning){r->alignment, r->io_hints}, comm));
@@ -691,7 +752,9 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     HX_TRY(hx_io_add_field(R.io, HX_FIELD_VELOCITY, 3, "code_length/code_time", 0, &R.vel_id));
     if (r->density_model != HX_DENSITY_NONE) {
         HX_TRY(hx_io_add_field(R.io, HX_FIELD_DENSITY, 1, "code_mass/code_length**3", 0, &R.rho_id));
+        hx_timer_begin(tm, "density");
         HX_TRY(make_density(&R));
+        hx_timer_end(tm, "density", 0, 0);
     }
     R.res.as_written = hx_make_shaped(r);
     if (R.rho || R.res.as_written) HX_TRY(hx_flow_begin(&fl, &R.g, R.rho, &R.cloud, 0, comm));
@@ -702,6 +765,8 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     R.res.fraction = sum->fraction;
     R.res.vrms_k = sum->vrms_k;
     hx_field_timings(R.f, &R.res.t_draw, &R.res.t_fft);
+    R.res.kept_bytes = hx_field_kept_bytes(R.f);
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &R.res.kept_bytes, 1, MPI_DOUBLE, MPI_MAX, comm));
     /* local allocations only, but a failure must reach every rank before the next collective */
     HX_TRY(hx_error_agree(comm, expected_slope(sum, r, &R.res.slope_fit, &R.res.slope_sigma)));
     if (!R.res.as_written) HX_TRY(hx_error_agree(comm, fill_diag(&diag, sum, &R.g, r)));
@@ -712,17 +777,21 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
         hx_field_destroy(&R.f); /* the analysis needs the memory */
         free(R.rho);
         R.rho = NULL;
+        hx_timer_begin(tm, "analysis");
         HX_TRY(analyse_written(&R, &diag));
+        hx_timer_end(tm, "analysis", 0, 0);
         R.res.fraction = diag.fraction;
         R.res.vrms_k = NAN;
         for (int c = 0; c < 3; c++) R.res.mean[c] = diag.mean[c];
     }
+    hx_timer_begin(tm, "epilog");
     HX_TRY(hx_log_peak_rss(comm, &R.res.peak_rss));
     R.res.t_total = MPI_Wtime() - t0;
     HX_TRY(write_provenance(R.io, r, &R.g, &R.res));
     HX_TRY(write_state(R.io, r, &R.cloud, &R.res));
     HX_TRY(write_diag(R.io, &diag));
     HX_TRY(hx_io_close(&R.io, 1));
+    hx_timer_end(tm, "epilog", 0, 0);
     R.res.t_total = MPI_Wtime() - t0;
     if (r->amplitude_by == HX_AMPLITUDE_VRMS)
         hx_log_say(log, HX_LOG_INFO, "wrote %s: rms %.6g (asked %.6g), compressive share %.6f; %.2f s, peak %.1f MiB per rank",

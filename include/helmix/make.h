@@ -29,6 +29,7 @@ typedef struct hx_make_result {
     double t_write[3];     /* per component: collective write                             */
     double t_total;        /* from the start to the provenance write                      */
     long long peak_rss;    /* bytes, largest over ranks                                   */
+    double kept_bytes;     /* bytes of kept draws on the rank that kept most (0: regenerated) */
     int as_written;        /* 1: share and diagnostics measured on the field as written     */
     /* the physical state as written (NAN where it does not apply) */
     double sigma_3d;       /* mass-weighted 3D dispersion over the cloud region            */
