@@ -66,6 +66,7 @@ static hx_status write_provenance(hx_io *io, const hx_recipe *r, const hx_grid *
     HX_TRY(hx_io_attr_string(io, G, HX_ATTR_COMPUTE, r->compute == HX_PREC_DOUBLE ? "double" : "single"));
     HX_TRY(hx_io_attr_string(io, G, "draws", res->kept_bytes > 0 ? "kept" : "regenerated"));
     HX_TRY(hx_io_attr_doubles(io, G, "kept_draw_bytes", &res->kept_bytes, 0));
+    HX_TRY(hx_io_attr_tuning(io, G));
     HX_TRY(hx_io_attr_string(io, G, HX_ATTR_WEIGHT, r->weight == HX_WEIGHT_MASS ? "mass" : "volume"));
     HX_TRY(hx_io_attr_string(io, G, HX_ATTR_FRACTION_OF, res->as_written ? "written" : "synthesis"));
     HX_TRY(hx_io_attr_doubles(io, G, "timing_plan", &res->t_plan, 0));
