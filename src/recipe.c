@@ -18,6 +18,9 @@
 #include <stdlib.h>
 #include <string.h>
 #include <strings.h>
+#include <fcntl.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include "helmix/spectrum.h"
 #include "helmix/units.h"
@@ -32,7 +35,6 @@
 
 #define UNIT_RULE "must be a number > 0 in units of 2 pi / max(L)"
 #define SHARE_RULE "must be a number in [0, 1]"
-#define BOTH_RULE "give either zeta or compressive_fraction, not both"
 
 /* ---- reading values ---------------------------------------------------------------------- */
 
@@ -131,9 +133,12 @@ typedef enum {
     K_TRI,    /* int -1 (auto) / 0 / 1                                                 */
     K_SEED,   /* uint64_t                                                             */
     K_PATH,   /* char[HX_PATH_MAX]                                                    */
-    K_SHARE,  /* double in [0, 1], exclusive with the share at `partner`                */
     K_AXIS    /* double[3]: x, y, z or three finite numbers                             */
 } kind_t;
+
+/* Alternatives: at most one key of a group is given (a real or quantity that is not NaN, a
+ * true bool); a --set of one replaces the others. */
+enum { G_NONE = 0, G_UNITS_DENSITY, G_MIX, G_AMPLITUDE, G_CLOUD_DENSITY, G_B0, G_B_RANDOM };
 
 typedef enum { R_ANY = 0, R_POS, R_NONNEG, R_SHARE, R_GT1, R_GE1 } range_t;
 
@@ -152,7 +157,7 @@ typedef struct key {
     const char *help;    /* first line: summary for --help; further lines: details */
     int required;        /* no default: the template gives a sample value instead of a comment */
     int relative;        /* a relative path is taken from the recipe's directory */
-    size_t partner;      /* K_SHARE: offset of the share it excludes */
+    int group;           /* G_*: the alternatives this key belongs to, G_NONE for none */
 } key;
 
 static const char *const shape_names[] = {"power", "band", "table", NULL};
@@ -268,15 +273,6 @@ static const char *parse_value(const key *k, hx_recipe *r, const char *v)
         memcpy(dst, d, sizeof d);
         return NULL;
     }
-    case K_SHARE: {
-        double x;
-        const double *other = (const double *)((const char *)r + k->partner);
-        if (!read_real(v, &x) || !in_range(x, R_SHARE)) return rule_of(k);
-        if (!isnan(*other)) return !strcmp(k->name, "zeta") ? BOTH_RULE " (compressive_fraction is already given)"
-                                                             : BOTH_RULE " (zeta is already given)";
-        *(double *)dst = x;
-        return NULL;
-    }
     }
     return "unknown kind of key";
 }
@@ -309,7 +305,6 @@ static int show_value(const key *k, const hx_recipe *r, char *buf, size_t n)
         return 1;
     }
     case K_REAL:
-    case K_SHARE:
         if (isnan(*(const double *)src)) return 0;
         format_real(buf, n, *(const double *)src);
         return 1;
@@ -400,26 +395,26 @@ static const key keys[] = {
     {QTY("units", "density", unit_density, HX_QTY_DENSITY, R_POS,
          "a density > 0, e.g. 1e-22 g/cm^3 or 1 Msun/pc^3 (a bare number is in g/cm^3)"),
      NULL, "1 g/cm^3 unless mass is given", "1e-22 g/cm^3", "g/cm^3 when bare",
-     "the code density unit: the density dataset is in it; give density or mass, not both", 0, 0, 0},
+     "the code density unit: the density dataset is in it; give density or mass, not both", 0, 0, G_UNITS_DENSITY},
     {QTY("units", "mass", unit_mass, HX_QTY_MASS, R_POS, "a mass > 0, e.g. 1 Msun (a bare number is in g)"),
      NULL, "none (density is used)", "1 Msun", "g when bare",
-     "the code mass unit instead of density: code density = mass / length^3", 0, 0, 0},
+     "the code mass unit instead of density: code density = mass / length^3", 0, 0, G_UNITS_DENSITY},
 
     SPECTRUM_KEYS("spectrum", spectrum, "the kinetic energy", "1", "power", NULL),
 
-    {OTHER("mix", "zeta", K_SHARE, mix.zeta, "a number in [0, 1]"), NULL, "0.5 unless compressive_fraction is given",
+    {REAL("mix", "zeta", mix.zeta, R_SHARE, "a number in [0, 1]"), NULL, "0.5 unless compressive_fraction is given",
      "0.5", NULL,
      "Helmholtz projection weight: each mode keeps zeta of its solenoidal part, 1 - zeta of its compressive part\n"
      "1 is purely solenoidal, 0 purely compressive, 0.5 the natural 2:1 mixture. The expected compressive\n"
      "share of the energy is (1-zeta)^2/(1-2 zeta+3 zeta^2) " FEDERRATH ".\n"
      "Give zeta or compressive_fraction, not both.",
-     0, 0, AT(mix.compressive_fraction)},
-    {OTHER("mix", "compressive_fraction", K_SHARE, mix.compressive_fraction, "a number in [0, 1]"), NULL,
+     0, 0, G_MIX},
+    {REAL("mix", "compressive_fraction", mix.compressive_fraction, R_SHARE, "a number in [0, 1]"), NULL,
      "none (zeta is used)", "0.3", NULL,
      "compressive (curl-free) share of the kinetic energy, asked for directly instead of zeta\n"
      "Give compressive_fraction or zeta, not both. With it, exact defaults to total; exact = none draws freely "
      "with that expected share.",
-     0, 0, AT(mix.zeta)},
+     0, 0, G_MIX},
     {ENUM("mix", "exact", mix.exact, exact_names, "one of none, total, shell"), NULL,
      "none with zeta, total with compressive_fraction", "none", NULL,
      "how strictly the realized compressive share is held\n"
@@ -439,23 +434,23 @@ static const key keys[] = {
      "1.0", "code velocity",
      "3D rms velocity, sqrt(<vx^2 + vy^2 + vz^2>), volume-weighted over the box\n"
      "Give exactly one of vrms, mach, virial, linewidth.",
-     0, 0, 0},
+     0, 0, G_AMPLITUDE},
     {REAL("amplitude", "mach", mach, R_POS, "a number > 0"), NULL, "none", "5", NULL,
      "3D rms Mach number sigma_3D / c_s, c_s from [gas]\n"
      "sigma_3D is the mass-weighted 3D velocity dispersion over the cloud (the whole box without a\n"
      "cloud), after the bulk velocity is removed.",
-     0, 0, 0},
+     0, 0, G_AMPLITUDE},
     {REAL("amplitude", "virial", virial, R_POS, "a number > 0"), NULL, "none", "1", NULL,
      "virial parameter alpha_vir = 5 sigma_1D^2 R / (G M) (Bertoldi & McKee 1992, ApJ 395, 140)\n"
      "sigma_1D = sigma_3D / sqrt(3), mass-weighted over the cloud; R and M are the cloud's radius and\n"
      "mass. Without a cloud: R = max(L)/2 and M the mass in the box (common practice for periodic boxes).",
-     0, 0, 0},
+     0, 0, G_AMPLITUDE},
     {OTHER("amplitude", "linewidth", K_BOOL, linewidth, "true or false (also yes/no, 1/0)"), "false", NULL, NULL,
      NULL,
      "set sigma_3D by a linewidth-size relation sigma_3D = linewidth_sigma (L / 1 pc)^linewidth_index\n"
      "L is the largest size: the cloud's diameter, else the largest box side. The defaults are\n"
      "Larson's relation for the 3D dispersion, 1.10 km/s (L/pc)^0.38 (Larson 1981, MNRAS 194, 809).",
-     0, 0, 0},
+     0, 0, G_AMPLITUDE},
     {QTY("amplitude", "linewidth_sigma", linewidth_sigma, HX_QTY_VELOCITY, R_POS, "a velocity > 0"), "1.10 km/s",
      NULL, NULL, "code velocity when bare", "3D velocity dispersion at L = 1 pc of the linewidth-size relation", 0,
      0, 0},
@@ -495,17 +490,18 @@ static const key keys[] = {
      0, 0, 0},
     {QTY("density", "mean", density_mean, HX_QTY_DENSITY, R_POS, "a density > 0"), NULL,
      "1 code density (uniform, lognormal); for sphere, the cloud density unless mass is given", "1e-21 g/cm^3",
-     "code density when bare", "volume-mean density (uniform, lognormal), or the cloud's density (sphere)", 0, 0, 0},
+     "code density when bare", "volume-mean density (uniform, lognormal), or the cloud's density (sphere)\n"
+     "Give one of mean, mass, central_density.", 0, 0, G_CLOUD_DENSITY},
     {QTY("density", "radius", cloud_radius, HX_QTY_LENGTH, R_POS, "a length > 0"), NULL,
      "none: a sphere needs it; a Bonnor-Ebert sphere gets it from xi_max", "2 pc", "code length when bare",
      "cloud radius of a sphere (centred in the box)", 0, 0, 0},
     {QTY("density", "mass", cloud_mass, HX_QTY_MASS, R_POS, "a mass > 0"), NULL, "none", "1000 Msun",
      "code mass when bare",
      "cloud mass: sets the sphere's density or the Bonnor-Ebert central density instead of giving them", 0, 0,
-     0},
+     G_CLOUD_DENSITY},
     {QTY("density", "central_density", central_density, HX_QTY_DENSITY, R_POS, "a density > 0"), NULL,
      "none: a Bonnor-Ebert sphere needs it or mass", "1e-19 g/cm^3", "code density when bare",
-     "central density of a Bonnor-Ebert sphere", 0, 0, 0},
+     "central density of a Bonnor-Ebert sphere", 0, 0, G_CLOUD_DENSITY},
     {REAL("density", "xi_max", xi_max, R_POS, "a number > 0"), NULL, "the critical value 6.451", "6.451", NULL,
      "dimensionless outer radius of a Bonnor-Ebert sphere, r = xi c_s / sqrt(4 pi G rho_c)\n"
      "Above the critical 6.451 (Ebert 1955, Z. Astrophys. 37, 217; Bonnor 1956, MNRAS 116, 351) the\n"
@@ -542,24 +538,25 @@ static const key keys[] = {
      "strength |B0| of the uniform field; give one of strength, beta, alfven_mach (or none: random part only)\n"
      "Gaussian units (NRL Plasma Formulary); the code magnetic unit is sqrt(4 pi [units] density) [units]\n"
      "velocity, so that v_A = B / sqrt(rho) and beta = 2 P / B^2 in code units.",
-     0, 0, 0},
+     0, 0, G_B0},
     {REAL("magnetic", "beta", beta, R_POS, "a number > 0"), NULL, "none", "0.1", NULL,
      "plasma beta of the uniform field, 8 pi P / B0^2 with P = <rho> k_B T / (mu m_H) from [gas]\n"
      "<rho> is the volume mean of the [density] model (1 code density without one).",
-     0, 0, 0},
+     0, 0, G_B0},
     {REAL("magnetic", "alfven_mach", alfven_mach, R_POS, "a number > 0"), NULL, "none", "1", NULL,
      "Alfven Mach number of the uniform field, sigma_3D / v_A with v_A = B0 / sqrt(4 pi <rho>)\n"
      "sigma_3D is the 3D velocity dispersion as written (the one [amplitude] sets), so this Mach number is 3D.",
-     0, 0, 0},
+     0, 0, G_B0},
     {OTHER("magnetic", "direction", K_AXIS, direction, "x, y, z or three numbers \"ax ay az\" (not all 0)"), "0 0 1",
      NULL, NULL, NULL, "direction of the uniform field (normalised); x, y, z name the axes", 0, 0, 0},
     {REAL("magnetic", "random_ratio", random_ratio, R_NONNEG, "a number >= 0"), NULL, "0 (no random part)", "0.5",
      NULL,
      "rms of the random solenoidal part over |B0|; give random_ratio or random_rms\n"
      "The random part has its own spectrum ([magnetic_spectrum], whose shape must be given) and random stream.",
-     0, 0, 0},
+     0, 0, G_B_RANDOM},
     {QTY("magnetic", "random_rms", random_rms, HX_QTY_MAGNETIC, R_NONNEG, "a magnetic field >= 0"), NULL,
-     "none", "3 uG", "code magnetic when bare", "rms of the random part itself (instead of random_ratio)", 0, 0, 0},
+     "none", "3 uG", "code magnetic when bare", "rms of the random part itself (instead of random_ratio)", 0, 0,
+     G_B_RANDOM},
     {OTHER("magnetic", "faces", K_BOOL, faces, "true or false (also yes/no, 1/0)"), "true", NULL, NULL, NULL,
      "also write magnetic_face_x|y|z: the face-centred field of a staggered (constrained-transport) grid\n"
      "It is the discrete curl of a vector potential on cell edges, so its discrete divergence vanishes to\n"
@@ -726,7 +723,7 @@ void hx_recipe_defaults(hx_recipe *r)
     /* "not given" first, then the defaults the table spells out */
     for (int i = 0; i < NKEYS; i++) {
         void *dst = (char *)r + keys[i].off;
-        if (keys[i].kind == K_REAL || keys[i].kind == K_SHARE) *(double *)dst = NAN;
+        if (keys[i].kind == K_REAL) *(double *)dst = NAN;
         if (keys[i].kind == K_QTY) ((hx_quantity *)dst)->value = NAN;
     }
     for (int i = 0; i < NKEYS; i++)
@@ -737,15 +734,126 @@ void hx_recipe_defaults(hx_recipe *r)
     r->magnetic_spectrum.shape = (hx_shape)-1; /* a random field must say what its spectrum is */
 }
 
+/* ---- the text: what a recipe may hold -------------------------------------------------------- */
+
+/* Length of the UTF-8 sequence at s (RFC 3629: shortest form, no surrogates, at most
+ * U+10FFFF), 0 when it is not one. */
+static size_t utf8_length(const unsigned char *s, size_t avail)
+{
+    unsigned char c = s[0];
+    size_t n;
+    unsigned char lo = 0x80, hi = 0xBF; /* allowed range of the second byte */
+    if (c < 0x80) return 1;
+    if (c >= 0xC2 && c <= 0xDF) n = 2;
+    else if (c >= 0xE0 && c <= 0xEF) n = 3, lo = c == 0xE0 ? 0xA0 : 0x80, hi = c == 0xED ? 0x9F : 0xBF;
+    else if (c >= 0xF0 && c <= 0xF4) n = 4, lo = c == 0xF0 ? 0x90 : 0x80, hi = c == 0xF4 ? 0x8F : 0xBF;
+    else return 0;
+    if (avail < n || s[1] < lo || s[1] > hi) return 0;
+    for (size_t i = 2; i < n; i++)
+        if (s[i] < 0x80 || s[i] > 0xBF) return 0;
+    return n;
+}
+
+/* What makes byte i of s[0..len) unfit for a recipe (its sequence is *step bytes long), or
+ * NULL. A line feed is fine in a text; `one_line` refuses it in a single value. */
+static const char *byte_fault(const char *s, size_t len, size_t i, int one_line, size_t *step, char *why, size_t n)
+{
+    unsigned char c = (unsigned char)s[i];
+    *step = 1;
+    if (c == '\0') return "a NUL byte: a recipe is text (is this a binary file?)";
+    if (c == '\n' && !one_line) return NULL;
+    if (c == '\r' && !one_line && i + 1 < len && s[i + 1] == '\n') return NULL; /* CRLF line ends */
+    if (c == '\r') return "a carriage return that does not end a line";
+    if ((c < 0x20 && c != '\t') || c == 0x7f) {
+        snprintf(why, n, "the control character 0x%02x: a recipe is text (is this a binary file?)", c);
+        return why;
+    }
+    if (c >= 0x80 && !(*step = utf8_length((const unsigned char *)s + i, len - i))) {
+        *step = 1;
+        snprintf(why, n, "the byte 0x%02x, which is not UTF-8: save the recipe as UTF-8 text", c);
+        return why;
+    }
+    return NULL;
+}
+
+hx_status hx_recipe_check_text(const char *text, size_t len, const char *origin)
+{
+    char why[160];
+    int line = 1;
+    size_t start = 0, step;
+    origin = origin ? origin : "recipe";
+    for (size_t i = 0; i < len; i += step) {
+        const char *bad = byte_fault(text, len, i, 0, &step, why, sizeof why);
+        if (bad) return hx_error_set(HX_ERR_ARG, "%s:%d: column %zu holds %s", origin, line, i - start + 1, bad);
+        if (text[i] == '\n') line++, start = i + 1;
+    }
+    return HX_OK;
+}
+
+/* The end of a line's content: an inline comment starts at a '#' or ';' after a blank
+ * (common practice in INI files; a value never holds " #" or " ;"). */
+static size_t cut_comment(const char *s, size_t len)
+{
+    for (size_t p = 1; p < len; p++)
+        if ((s[p] == '#' || s[p] == ';') && (s[p - 1] == ' ' || s[p - 1] == '\t')) return p;
+    return len;
+}
+
+/* ---- alternatives: keys of which at most one is given ----------------------------------------- */
+
+static int given(const key *k, const hx_recipe *r)
+{
+    const void *src = (const char *)r + k->off;
+    switch (k->kind) {
+    case K_REAL: return !isnan(*(const double *)src);
+    case K_QTY: return !isnan(((const hx_quantity *)src)->value);
+    case K_BOOL: return *(const int *)src != 0;
+    default: return 1;
+    }
+}
+
+/* Back to "not given" (then the key's default, if it has one). */
+static void reset_key(const key *k, hx_recipe *r)
+{
+    void *dst = (char *)r + k->off;
+    if (k->kind == K_REAL) *(double *)dst = NAN;
+    if (k->kind == K_QTY) {
+        hx_quantity *q = dst;
+        q->value = NAN;
+        q->unit = 0;
+        memset(q->text, 0, sizeof q->text);
+    }
+    if (k->kind == K_BOOL) *(int *)dst = 0;
+    if (k->def) parse_value(k, r, k->def);
+}
+
+/* "zeta, compressive_fraction": the keys of a group. */
+static const char *group_list(int group)
+{
+    static _Thread_local char buf[HINT_MAX];
+    size_t used = 0;
+    buf[0] = '\0';
+    for (int i = 0; i < NKEYS && used < sizeof buf; i++)
+        if (keys[i].group == group)
+            used += (size_t)snprintf(buf + used, sizeof buf - used, "%s%s", used ? ", " : "", keys[i].name);
+    return buf;
+}
+
+/* ---- parsing ---------------------------------------------------------------------------------- */
+
 /* inih hands us one line per reader call, so the count of reader calls is the line number
- * of every handler call: this works whether or not the installed inih reports line numbers. */
+ * of every handler call: this works whether or not the installed inih reports line numbers.
+ * The reader also does what inih cannot: '#' inline comments, sections given twice, text
+ * after a [section], a NUL inside the text (the length is known). */
 typedef struct parse_state {
     hx_recipe *r;
-    const char *origin, *basedir, *text, *pos;
+    const char *origin, *basedir, *text, *pos, *end;
     int line;         /* lines handed to inih so far */
     int section_line; /* line of the latest [section] header */
     int err_line;     /* line of the first error found here, 0 if none */
     hx_status err;
+    int seen[HX_RECIPE_MAX_KEYS];    /* line of each key in this text (0: not yet) */
+    int opened[HX_RECIPE_MAX_KEYS];  /* line of each [section], at its first key's index */
     int long_line;    /* line whose value is in long_value (see long_line) */
     char long_value[HX_PATH_MAX + 1];
 } parse_state;
@@ -756,6 +864,7 @@ static int parse_fail(parse_state *ps, int line, hx_status st, const char *fmt, 
 static int parse_fail(parse_state *ps, int line, hx_status st, const char *fmt, ...)
 {
     char what[900];
+    if (ps->err_line) return 0; /* only the first error is reported */
     va_list ap;
     va_start(ap, fmt);
     vsnprintf(what, sizeof what, fmt, ap);
@@ -767,27 +876,22 @@ static int parse_fail(parse_state *ps, int line, hx_status st, const char *fmt, 
 }
 
 /* inih reads at most `size - 1` characters of a line. A longer "key = value" (a long path)
- * reaches inih as "key = \x01" and the handler takes the value kept here, cut like inih cuts:
- * at " ;" (inline comment), without surrounding blanks. */
+ * reaches inih as "key = \x01" and the handler takes the value kept here (the line comes
+ * without comment and surrounding blanks). */
 static char *long_line(parse_state *ps, char *buf, int size, const char *s, size_t len)
 {
     buf[0] = '\0';
-    if (*s == '#' || *s == ';') return buf; /* a long comment is still a comment */
     size_t eq = 0;
     while (eq < len && s[eq] != '=' && s[eq] != ':') eq++;
     if (eq == len || *s == '[' || eq + 4 > (size_t)size) {
-        if (!ps->err_line)
-            parse_fail(ps, ps->line, HX_ERR_ARG, "line is longer than %d characters and not a 'key = value' line",
-                       size - 2);
+        parse_fail(ps, ps->line, HX_ERR_ARG, "line is longer than %d characters and not a 'key = value' line",
+                   size - 2);
         return buf;
     }
     memcpy(buf, s, eq + 1);
     strcpy(buf + eq + 1, " \x01");
     const char *v = s + eq + 1, *end = s + len;
-    for (const char *p = v + 1; p < end; p++)
-        if (*p == ';' && isspace((unsigned char)p[-1])) end = p;
     while (v < end && isspace((unsigned char)*v)) v++;
-    while (end > v && isspace((unsigned char)end[-1])) end--;
     size_t vlen = (size_t)(end - v) < HX_PATH_MAX ? (size_t)(end - v) : HX_PATH_MAX;
     memcpy(ps->long_value, v, vlen);
     ps->long_value[vlen] = '\0';
@@ -795,19 +899,54 @@ static char *long_line(parse_state *ps, char *buf, int size, const char *s, size
     return buf;
 }
 
-/* Reader for ini_parse_stream: the next line of the text. Leading blanks are dropped so inih
- * never takes an indented line for the continuation of the previous value. */
+/* A "[section]" line (without comment and trailing blanks): known, opened once, alone. A
+ * line without ']' is left to inih, which reports it. */
+static void section_header(parse_state *ps, const char *s, size_t len)
+{
+    char hint[HINT_MAX], name[WORD_MAX];
+    const char *close = memchr(s, ']', len);
+    ps->section_line = ps->line;
+    if (!close) return;
+    size_t n = (size_t)(close - s - 1);
+    if (close + 1 < s + len) {
+        parse_fail(ps, ps->line, HX_ERR_ARG, "'%.*s': text after the [section] header: give each key = value "
+                   "on a line of its own", (int)(len < SHOW_MAX ? len : SHOW_MAX), s);
+        return;
+    }
+    snprintf(name, sizeof name, "%.*s", (int)(n < WORD_MAX - 1 ? n : WORD_MAX - 1), s + 1);
+    const char *known = n < WORD_MAX - 1 ? find_section(name) : NULL;
+    if (!known) {
+        section_hint(hint, sizeof hint, name);
+        parse_fail(ps, ps->line, HX_ERR_ARG, "unknown section [%.*s]%s", (int)(n < SHOW_MAX ? n : SHOW_MAX), s + 1,
+                   hint);
+        return;
+    }
+    int at = 0;
+    while (at < NKEYS && strcmp(keys[at].section, known)) at++;
+    if (ps->opened[at])
+        parse_fail(ps, ps->line, HX_ERR_ARG, "[%s] is opened a second time (first on line %d): give each section "
+                   "once, with all its keys", known, ps->opened[at]);
+    else
+        ps->opened[at] = ps->line;
+}
+
+/* Reader for ini_parse_stream: the next line of the text, without leading blanks (so inih
+ * never takes an indented line for the continuation of the previous value), comments and
+ * trailing blanks. */
 static char *next_line(char *buf, int size, void *user)
 {
     parse_state *ps = user;
-    if (!ps->pos || !*ps->pos) return NULL;
-    const char *s = ps->pos, *eol = strchr(s, '\n');
-    size_t len = eol ? (size_t)(eol - s) : strlen(s);
-    ps->pos = s + len + (eol ? 1 : 0);
+    if (ps->pos >= ps->end) return NULL;
+    const char *s = ps->pos, *eol = memchr(s, '\n', (size_t)(ps->end - s));
+    size_t len = eol ? (size_t)(eol - s) : (size_t)(ps->end - s);
+    ps->pos = eol ? eol + 1 : ps->end;
     ps->line++;
     if (ps->line == 1 && len >= 3 && !memcmp(s, "\xEF\xBB\xBF", 3)) s += 3, len -= 3; /* UTF-8 BOM */
     while (len && (*s == ' ' || *s == '\t')) s++, len--;
-    if (len && *s == '[') ps->section_line = ps->line;
+    if (len && (*s == '#' || *s == ';')) len = 0; /* a comment line */
+    len = cut_comment(s, len);
+    while (len && isspace((unsigned char)s[len - 1])) len--;
+    if (len && *s == '[') section_header(ps, s, len);
     if (len + 1 >= (size_t)size) return long_line(ps, buf, size, s, len);
     memcpy(buf, s, len);
     buf[len] = '\0';
@@ -824,7 +963,7 @@ static int on_key(void *user, const char *section, const char *name, const char 
         key_hint(hint, sizeof hint, section, name);
         return parse_fail(ps, ps->line, HX_ERR_ARG, "key '%s' comes before any [section]%s", name, hint);
     }
-    if (!find_section(section)) {
+    if (!find_section(section)) { /* section_header reports it first; this is for inih's own cuts */
         section_hint(hint, sizeof hint, section);
         return parse_fail(ps, ps->section_line, HX_ERR_ARG, "unknown section [%s]%s", section, hint);
     }
@@ -834,51 +973,97 @@ static int on_key(void *user, const char *section, const char *name, const char 
         return parse_fail(ps, ps->line, HX_ERR_ARG, "unknown key '%s' in [%s]%s", name, find_section(section),
                           hint);
     }
+    int i = (int)(k - keys);
+    if (ps->seen[i])
+        return parse_fail(ps, ps->line, HX_ERR_ARG, "[%s] %s is given a second time (first on line %d): give each "
+                          "key once (--set overrides the recipe)", k->section, k->name, ps->seen[i]);
     const char *why = apply(k, ps->r, value, ps->basedir);
     if (why)
         return parse_fail(ps, ps->line, HX_ERR_ARG, "[%s] %s = %.*s: %s", k->section, k->name, SHOW_MAX, value,
                           why);
-    ps->r->line[k - keys] = ps->line;
+    for (int j = 0; k->group && j < NKEYS; j++)
+        if (j != i && keys[j].group == k->group && ps->seen[j] && given(k, ps->r) && given(&keys[j], ps->r))
+            return parse_fail(ps, ps->line, HX_ERR_ARG, "[%s] %s = %.*s: %s is given on line %d, and only one of %s "
+                              "may be given", k->section, k->name, SHOW_MAX, value, keys[j].name, ps->seen[j],
+                              group_list(k->group));
+    ps->seen[i] = ps->line;
+    ps->r->line[i] = ps->line;
     return 1;
 }
 
 /* inih found a line that is neither a comment, a [section] nor key = value. */
 static void syntax_error(parse_state *ps, int line)
 {
-    const char *s = ps->text;
-    for (int i = 1; i < line && s; i++) {
-        s = strchr(s, '\n');
-        if (s) s++;
+    const char *s = ps->text, *end = ps->end;
+    for (int i = 1; i < line && s < end; i++) {
+        const char *eol = memchr(s, '\n', (size_t)(end - s));
+        s = eol ? eol + 1 : end;
     }
-    if (!s) s = "";
-    while (*s == ' ' || *s == '\t') s++;
-    int len = (int)strcspn(s, "\r\n");
+    while (s < end && (*s == ' ' || *s == '\t')) s++;
+    size_t len = 0;
+    while (s + len < end && s[len] != '\r' && s[len] != '\n') len++;
     parse_fail(ps, line, HX_ERR_ARG, "'%.*s': expected [section], key = value or a comment",
-               len < SHOW_MAX ? len : SHOW_MAX, s);
+               (int)(len < SHOW_MAX ? len : SHOW_MAX), s);
 }
 
-hx_status hx_recipe_parse(hx_recipe *r, const char *text, const char *origin, const char *basedir)
+hx_status hx_recipe_parse_n(hx_recipe *r, const char *text, size_t len, const char *origin, const char *basedir)
 {
+    origin = origin ? origin : "recipe";
+    if (!text) text = "", len = 0;
+    if (len > HX_RECIPE_TEXT_MAX)
+        return hx_error_set(HX_ERR_ARG, "%s: %zu bytes: a recipe is a text of at most %d bytes", origin, len,
+                            HX_RECIPE_TEXT_MAX);
+    hx_status st = hx_recipe_check_text(text, len, origin);
+    if (st != HX_OK) return st;
     hx_recipe work = *r; /* r changes only on success */
-    parse_state ps = {.r = &work, .origin = origin ? origin : "recipe", .basedir = basedir,
-                      .text = text ? text : "", .pos = text ? text : ""};
-    int rc = ini_parse_stream(next_line, &ps, on_key, &ps);
-    if (rc < 0) return hx_error_set(HX_ERR_MEM, "%s: out of memory while reading the recipe", ps.origin);
-    if (rc > 0 && (!ps.err_line || rc < ps.err_line)) syntax_error(&ps, rc);
-    if (ps.err_line) return ps.err;
+    parse_state *ps = calloc(1, sizeof *ps); /* the long-value buffer is too big for some stacks */
+    if (!ps) return hx_error_set(HX_ERR_MEM, "%s: out of memory while reading the recipe", origin);
+    *ps = (parse_state){.r = &work, .origin = origin, .basedir = basedir, .text = text, .pos = text,
+                        .end = text + len};
+    int rc = ini_parse_stream(next_line, ps, on_key, ps);
+    if (rc < 0) st = hx_error_set(HX_ERR_MEM, "%s: out of memory while reading the recipe", origin);
+    else {
+        if (rc > 0 && (!ps->err_line || rc < ps->err_line)) {
+            ps->err_line = 0; /* inih's error comes first */
+            syntax_error(ps, rc);
+        }
+        st = ps->err_line ? ps->err : HX_OK;
+    }
+    free(ps);
+    if (st != HX_OK) return st;
+    snprintf(work.origin, sizeof work.origin, "%s", origin);
     *r = work;
     return HX_OK;
 }
 
-/* Copy s[0..len) without surrounding blanks into buf, cut to fit; 0 if nothing is left. */
+hx_status hx_recipe_parse(hx_recipe *r, const char *text, const char *origin, const char *basedir)
+{
+    return hx_recipe_parse_n(r, text, text ? strlen(text) : 0, origin, basedir);
+}
+
+/* Copy s[0..len) without surrounding blanks into buf; -1 if it does not fit, else its length. */
 static int trim_copy(char *buf, size_t n, const char *s, size_t len)
 {
     while (len && isspace((unsigned char)*s)) s++, len--;
     while (len && isspace((unsigned char)s[len - 1])) len--;
-    if (len >= n) len = n - 1;
+    buf[0] = '\0';
+    if (len >= n) return -1;
     memcpy(buf, s, len);
     buf[len] = '\0';
-    return len > 0;
+    return (int)len;
+}
+
+/* Why a --set value could not stand in a recipe line (so the rendering would not read back
+ * as the same recipe), or NULL. */
+static const char *unwritable(const char *v, char *why, size_t n)
+{
+    size_t len = strlen(v), step;
+    for (size_t i = 0; i < len; i += step) {
+        const char *bad = byte_fault(v, len, i, 1, &step, why, n);
+        if (bad) return bad == why ? why : (snprintf(why, n, "the value holds %s", bad), why);
+    }
+    if (cut_comment(v, len) < len) return "a '#' or ';' after a blank would start a comment in a recipe";
+    return NULL;
 }
 
 hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
@@ -886,12 +1071,11 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
     const char *a = assignment ? assignment : "";
     const char *eq = strchr(a, '=');
     const char *dot = eq ? memchr(a, '.', (size_t)(eq - a)) : NULL;
-    char sec[WORD_MAX], name[WORD_MAX], value[VALUE_MAX], hint[HINT_MAX];
-    if (!dot || !trim_copy(sec, sizeof sec, a, (size_t)(dot - a)) ||
-        !trim_copy(name, sizeof name, dot + 1, (size_t)(eq - dot - 1)))
+    char sec[WORD_MAX], name[WORD_MAX], value[VALUE_MAX], hint[HINT_MAX], why_buf[160];
+    if (!dot || trim_copy(sec, sizeof sec, a, (size_t)(dot - a)) <= 0 ||
+        trim_copy(name, sizeof name, dot + 1, (size_t)(eq - dot - 1)) <= 0)
         return hx_error_set(HX_ERR_ARG, "--set %.*s: expected section.key=value, e.g. --set mix.zeta=0.3",
                             SHOW_MAX, a);
-    trim_copy(value, sizeof value, eq + 1, strlen(eq + 1));
     if (!find_section(sec)) {
         section_hint(hint, sizeof hint, sec);
         return hx_error_set(HX_ERR_ARG, "--set %.*s: unknown section [%s]%s", SHOW_MAX, a, sec, hint);
@@ -902,34 +1086,82 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
         return hx_error_set(HX_ERR_ARG, "--set %.*s: unknown key '%s' in [%s]%s", SHOW_MAX, a, name,
                             find_section(sec), hint);
     }
+    if (trim_copy(value, sizeof value, eq + 1, strlen(eq + 1)) < 0)
+        return hx_error_set(HX_ERR_ARG, "--set %.*s...: the value is longer than %d characters", SHOW_MAX, a,
+                            VALUE_MAX - 1);
     hx_recipe work = *r;
-    if (k->kind == K_SHARE) *(double *)((char *)&work + k->partner) = NAN; /* --set replaces the other share */
-    const char *why = apply(k, &work, value, NULL);
+    const char *why = unwritable(value, why_buf, sizeof why_buf);
+    if (!why) why = apply(k, &work, value, NULL);
     if (why) return hx_error_set(HX_ERR_ARG, "--set %.*s: %s", SHOW_MAX, a, why);
-    work.line[k - keys] = 0;
+    int i = (int)(k - keys);
+    for (int j = 0; k->group && j < NKEYS; j++) /* the command line replaces the alternative of the text */
+        if (j != i && keys[j].group == k->group && given(k, &work)) {
+            reset_key(&keys[j], &work);
+            work.line[j] = 0;
+        }
+    work.line[i] = HX_RECIPE_LINE_SET;
     *r = work;
     return HX_OK;
 }
 
 /* ---- validation ---------------------------------------------------------------------------- */
 
+/* Where the value of k came from, as a message names it: "run.ini:7: [amplitude] mach = 5",
+ * "--set amplitude.mach=5", or "run.ini: [spectrum] kmin = 1 (default)". */
+static void describe(const hx_recipe *r, const key *k, char *buf, size_t n)
+{
+    char value[VALUE_MAX];
+    int has = show_value(k, r, value, sizeof value), line = r->line[k - keys];
+    if (line == HX_RECIPE_LINE_SET)
+        snprintf(buf, n, "--set %s.%s=%.*s", k->section, k->name, SHOW_MAX, has ? value : "");
+    else if (line > 0)
+        snprintf(buf, n, "%s:%d: [%s] %s = %.*s", r->origin, line, k->section, k->name, SHOW_MAX, has ? value : "");
+    else
+        snprintf(buf, n, "%s%s[%s] %s%s%.*s%s", r->origin, r->origin[0] ? ": " : "", k->section, k->name,
+                 has ? " = " : " ", SHOW_MAX, has ? value : "(not given)", has ? " (default)" : "");
+}
+
+/* Where k was set, short: "run.ini:7", "--set" or "default". */
+static void origin_of(const hx_recipe *r, const key *k, char *buf, size_t n)
+{
+    int line = r->line[k - keys];
+    if (line == HX_RECIPE_LINE_SET) snprintf(buf, n, "--set");
+    else if (line > 0) snprintf(buf, n, "%s:%d", r->origin, line);
+    else snprintf(buf, n, "default");
+}
+
 static hx_status invalid(const hx_recipe *r, const char *section, const char *name, const char *fmt, ...)
     __attribute__((format(printf, 4, 5)));
 
-/* "line N: [section] key = current value: why", the line where the recipe text set the key
- * (left out when the value is a default or came from --set). */
+/* "<where the key came from>: why" (see describe). */
 static hx_status invalid(const hx_recipe *r, const char *section, const char *name, const char *fmt, ...)
 {
     const key *k = find_key(section, name);
-    char value[VALUE_MAX] = "(not given)", why[700];
-    if (k && !show_value(k, r, value, sizeof value)) strcpy(value, "(not given)");
+    char where[HX_PATH_MAX / 8 + SHOW_MAX + 64] = "", why[700];
     va_list ap;
     va_start(ap, fmt);
     vsnprintf(why, sizeof why, fmt, ap);
     va_end(ap);
-    char where[32] = "";
-    if (k && r->line[k - keys] > 0) snprintf(where, sizeof where, "line %d: ", r->line[k - keys]);
-    return hx_error_set(HX_ERR_ARG, "%s[%s] %s = %.*s: %s", where, section, name, SHOW_MAX, value, why);
+    if (k) describe(r, k, where, sizeof where);
+    else snprintf(where, sizeof where, "%s%s[%s] %s", r->origin, r->origin[0] ? ": " : "", section, name);
+    return hx_error_set(HX_ERR_ARG, "%s: %s", where, why);
+}
+
+/* At most one key of each group is given; both are named, each with its origin. */
+static hx_status check_groups(const hx_recipe *r)
+{
+    for (int i = 0; i < NKEYS; i++) {
+        if (!keys[i].group || !given(&keys[i], r)) continue;
+        for (int j = i + 1; j < NKEYS; j++)
+            if (keys[j].group == keys[i].group && given(&keys[j], r)) {
+                char a[HX_PATH_MAX / 8 + SHOW_MAX + 64], b[sizeof a];
+                describe(r, &keys[i], a, sizeof a);
+                describe(r, &keys[j], b, sizeof b);
+                return hx_error_set(HX_ERR_ARG, "%s and %s: only one of %s may be given", a, b,
+                                    group_list(keys[i].group));
+            }
+    }
+    return HX_OK;
 }
 
 double hx_recipe_kmax_limit(const hx_recipe *r)
@@ -943,7 +1175,8 @@ static hx_status check_grid(const hx_recipe *r)
 {
     const int64_t *c = r->cells;
     if (c[0] == 0 && c[1] == 0 && c[2] == 0)
-        return hx_error_set(HX_ERR_ARG, "[grid] cells is not given: it has no default; set it, e.g. cells = 256");
+        return hx_error_set(HX_ERR_ARG, "%s%s[grid] cells is not given: it has no default; set it, e.g. cells = 256",
+                            r->origin, r->origin[0] ? ": " : "");
     for (int i = 0; i < 3; i++)
         if (c[i] < 4 || c[i] > CELLS_MAX || c[i] % 2) return invalid(r, "grid", "cells", "%s", rule_of(find_key("grid", "cells")));
     for (int i = 0; i < 3; i++)
@@ -951,23 +1184,29 @@ static hx_status check_grid(const hx_recipe *r)
     return HX_OK;
 }
 
-/* The whole file as a string; NULL with errno set when it cannot be read. */
-static char *read_file(const char *path)
+/* The whole of a regular file of at most HX_SPECTRUM_TABLE_MAX bytes (a device or a pipe
+ * could be endless); NULL with errno set (EINVAL: not a regular file, EFBIG: too big). */
+static char *read_file(const char *path, size_t *size)
 {
-    FILE *fp = fopen(path, "rb");
-    if (!fp) return NULL;
-    char *text = NULL, chunk[4096];
-    size_t len = 0, got;
-    FILE *mem = open_memstream(&text, &len);
-    while (mem && (got = fread(chunk, 1, sizeof chunk, fp)) > 0) fwrite(chunk, 1, got, mem);
-    int failed = !mem || ferror(fp), saved = ferror(fp) ? errno : ENOMEM;
-    if (mem && fclose(mem) != 0) failed = 1;
-    fclose(fp);
-    if (failed) {
+    int fd = open(path, O_RDONLY | O_NONBLOCK); /* a FIFO must not block the open */
+    if (fd < 0) return NULL;
+    struct stat sb;
+    FILE *fp = NULL;
+    char *text = NULL;
+    int saved = 0;
+    if (fstat(fd, &sb) != 0) saved = errno;
+    else if (!S_ISREG(sb.st_mode)) saved = EINVAL;
+    else if (sb.st_size > HX_SPECTRUM_TABLE_MAX) saved = EFBIG;
+    else if (!(fp = fdopen(fd, "rb")) || !(text = malloc((size_t)sb.st_size + 1))) saved = errno ? errno : ENOMEM;
+    else if ((*size = fread(text, 1, (size_t)sb.st_size, fp)) != (size_t)sb.st_size || ferror(fp)) saved = EIO;
+    if (fp) fclose(fp);
+    else close(fd);
+    if (saved) {
         free(text);
         errno = saved;
         return NULL;
     }
+    text[*size] = '\0';
     return text;
 }
 
@@ -975,18 +1214,25 @@ static char *read_file(const char *path)
 static hx_status check_table(const hx_recipe *r, const char *section, const hx_spectrum_spec *sp)
 {
     if (!sp->table[0]) return invalid(r, section, "table", "shape = table needs a file of (k, E) rows");
-    char *text = read_file(sp->table);
-    if (!text) return invalid(r, section, "table", "cannot read the file: %s", strerror(errno));
+    size_t len = 0;
+    char *text = read_file(sp->table, &len);
+    if (!text && errno == EFBIG)
+        return invalid(r, section, "table", "the file is larger than a spectrum table may be (%d bytes)",
+                       HX_SPECTRUM_TABLE_MAX);
+    if (!text)
+        return invalid(r, section, "table", "cannot read the file: %s",
+                       errno == EINVAL ? "not a regular file" : strerror(errno));
     double *k = NULL, *e = NULL;
     int n = 0;
-    hx_status st = hx_spectrum_parse_table(text, sp->table, &k, &e, &n);
+    hx_status st = hx_spectrum_parse_table_n(text, len, sp->table, &k, &e, &n);
     free(text);
     free(k);
     free(e);
     if (st != HX_OK) {
         char inner[800];
         snprintf(inner, sizeof inner, "%s", hx_error_message());
-        return hx_error_set(st, "[%s] table: %s", section, inner);
+        if (st != HX_ERR_ARG) return hx_error_set(st, "%s", inner);
+        return invalid(r, section, "table", "%s", inner);
     }
     return HX_OK;
 }
@@ -1011,8 +1257,10 @@ static hx_status check_spectrum(hx_recipe *r, const char *section, hx_spectrum_s
     if (sp->kmin > sp->kmax) {
         char km[32];
         format_real(km, sizeof km, sp->kmax);
-        return invalid(r, section, "kmin", "must be at most kmax = %s%s", km,
-                       defaulted ? " (the default: the largest wavenumber below Nyquist)" : "");
+        char from[HX_PATH_MAX / 8 + 32];
+        origin_of(r, find_key(section, "kmax"), from, sizeof from);
+        return invalid(r, section, "kmin", "must be at most kmax = %s (%s)", km,
+                       defaulted ? "the default: the largest wavenumber below Nyquist" : from);
     }
     return sp->shape == HX_SHAPE_TABLE ? check_table(r, section, sp) : HX_OK;
 }
@@ -1020,9 +1268,7 @@ static hx_status check_spectrum(hx_recipe *r, const char *section, hx_spectrum_s
 static hx_status check_mix(hx_recipe *r)
 {
     hx_mix_spec *m = &r->mix;
-    int has_zeta = !isnan(m->zeta), has_fraction = !isnan(m->compressive_fraction);
-    if (has_zeta && has_fraction)
-        return hx_error_set(HX_ERR_ARG, "[mix] zeta and compressive_fraction are both given: " BOTH_RULE);
+    int has_zeta = !isnan(m->zeta), has_fraction = !isnan(m->compressive_fraction); /* not both: check_groups */
     if (!has_zeta && !has_fraction) m->zeta = ZETA_DEFAULT;
     m->mode = has_fraction ? HX_MIX_FRACTION : HX_MIX_ZETA;
     if (!has_fraction && !(m->zeta >= 0 && m->zeta <= 1)) return invalid(r, "mix", "zeta", SHARE_RULE);
@@ -1038,8 +1284,6 @@ static hx_status check_mix(hx_recipe *r)
 static hx_status check_units(hx_recipe *r)
 {
     hx_code_units *u = &r->code;
-    if (!isnan(r->unit_density.value) && !isnan(r->unit_mass.value))
-        return invalid(r, "units", "mass", "give [units] density or mass, not both");
     u->length = r->unit_length.value;
     u->velocity = r->unit_velocity.value;
     u->density = !isnan(r->unit_mass.value)      ? r->unit_mass.value / (u->length * u->length * u->length)
@@ -1153,8 +1397,6 @@ static hx_status check_magnetic(hx_recipe *r)
     for (int i = 0; i < 3; i++)
         if (given[i] && n++)
             return invalid(r, "magnetic", names[i], "give one of strength, beta, alfven_mach for the uniform field");
-    if (!isnan(r->random_ratio) && !isnan(r->random_rms.value))
-        return invalid(r, "magnetic", "random_rms", "give random_ratio or random_rms, not both");
     int random = (!isnan(r->random_ratio) && r->random_ratio > 0) || (!isnan(r->random_rms.value) && r->random_rms.value > 0);
     double d = sqrt(r->direction[0] * r->direction[0] + r->direction[1] * r->direction[1] + r->direction[2] * r->direction[2]);
     if (!(d > 0) || !isfinite(d)) return invalid(r, "magnetic", "direction", "must not be zero or NaN");
@@ -1196,6 +1438,7 @@ hx_status hx_recipe_validate(hx_recipe *r)
 {
     hx_recipe work = *r; /* r changes only on success */
     hx_status st = check_grid(&work);
+    if (st == HX_OK) st = check_groups(&work);
     if (st == HX_OK) st = check_units(&work);
     if (st == HX_OK) st = check_spectrum(&work, "spectrum", &work.spectrum);
     if (st == HX_OK && (work.density_model == HX_DENSITY_LOGNORMAL || work.clumps))

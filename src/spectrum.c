@@ -3,10 +3,13 @@
 #include "helmix/spectrum.h"
 
 #include <errno.h>
+#include <fcntl.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
 
 #include "check.h"
 
@@ -17,32 +20,52 @@ struct hx_spectrum {
     double *lk, *le; /* log k, log E (-inf where E = 0) */
 };
 
-static char *slurp(const char *path, long *len)
+/* A regular file of at most HX_SPECTRUM_TABLE_MAX bytes, read whole; NULL with a reason. */
+static char *slurp(const char *path, long *len, const char **why)
 {
-    FILE *fp = fopen(path, "rb");
-    if (!fp) return NULL;
+    int fd = open(path, O_RDONLY | O_NONBLOCK); /* a FIFO must not block the open */
+    struct stat sb;
+    FILE *fp = NULL;
     char *buf = NULL;
-    if (fseek(fp, 0, SEEK_END) == 0) {
-        long n = ftell(fp);
-        if (n >= 0 && fseek(fp, 0, SEEK_SET) == 0 && (buf = malloc((size_t)n + 1))) {
-            if (fread(buf, 1, (size_t)n, fp) != (size_t)n) { free(buf); buf = NULL; }
-            else { buf[n] = '\0'; *len = n; }
-        }
+    *why = NULL;
+    if (fd < 0) *why = strerror(errno);
+    else if (fstat(fd, &sb) != 0) *why = strerror(errno);
+    else if (!S_ISREG(sb.st_mode)) *why = "not a regular file";
+    else if (sb.st_size > HX_SPECTRUM_TABLE_MAX) *why = "larger than a spectrum table may be";
+    else if (!(fp = fdopen(fd, "rb")) || !(buf = malloc((size_t)sb.st_size + 1))) *why = "out of memory";
+    else if (fread(buf, 1, (size_t)sb.st_size, fp) != (size_t)sb.st_size) *why = "read error";
+    if (fp) fclose(fp);
+    else if (fd >= 0) close(fd);
+    if (*why) {
+        free(buf);
+        return NULL;
     }
-    fclose(fp);
+    buf[sb.st_size] = '\0';
+    *len = (long)sb.st_size;
     return buf;
 }
 
 hx_status hx_spectrum_parse_table(const char *text, const char *origin, double **k, double **e, int *n)
 {
+    return hx_spectrum_parse_table_n(text, text ? strlen(text) : 0, origin, k, e, n);
+}
+
+hx_status hx_spectrum_parse_table_n(const char *text, size_t size, const char *origin, double **k, double **e,
+                                    int *n)
+{
     hx_status st = HX_OK;
     int cap = 64, cnt = 0, line = 0;
     double *kk = NULL, *ee = NULL;
+    const char *end = text + size;
+    if (size > HX_SPECTRUM_TABLE_MAX)
+        return hx_error_set(HX_ERR_ARG, "%s: %zu bytes: a spectrum table is a text of at most %d bytes", origin, size,
+                            HX_SPECTRUM_TABLE_MAX);
+    HX_TRY(hx_recipe_check_text(text, size, origin));
     HX_ALLOC(kk, cap);
     HX_ALLOC(ee, cap);
-    for (const char *p = text; p && *p;) {
-        const char *eol = strchr(p, '\n');
-        size_t len = eol ? (size_t)(eol - p) : strlen(p);
+    for (const char *p = text; p && p < end;) {
+        const char *eol = memchr(p, '\n', (size_t)(end - p));
+        size_t len = eol ? (size_t)(eol - p) : (size_t)(end - p);
         char buf[512];
         line++;
         if (len >= sizeof buf) HX_FAIL(HX_ERR_ARG, "%s:%d: line too long", origin, line);
@@ -97,15 +120,16 @@ static hx_status load_table(hx_spectrum *sp, const char *path, MPI_Comm comm)
     char *text = NULL;
     double *k = NULL, *e = NULL;
     HX_MPI(MPI_Comm_rank(comm, &rank));
+    const char *why = NULL;
     if (rank == 0) {
-        text = slurp(path, &len);
+        text = slurp(path, &len, &why);
         if (!text) len = -1;
     }
     HX_MPI(MPI_Bcast(&len, 1, MPI_LONG, 0, comm));
-    if (len < 0) HX_FAIL(HX_ERR_ARG, "[spectrum] table = %s: cannot read the file", path);
+    if (len < 0) HX_FAIL(HX_ERR_ARG, "table = %s: cannot read the file%s%s", path, why ? ": " : "", why ? why : "");
     if (rank != 0) HX_ALLOC(text, len + 1);
     HX_MPI(MPI_Bcast(text, (int)len + 1, MPI_CHAR, 0, comm));
-    HX_TRY(hx_spectrum_parse_table(text, path, &k, &e, &sp->n));
+    HX_TRY(hx_spectrum_parse_table_n(text, (size_t)len, path, &k, &e, &sp->n));
     HX_ALLOC(sp->lk, sp->n);
     HX_ALLOC(sp->le, sp->n);
     for (int i = 0; i < sp->n; i++) {

@@ -8,6 +8,7 @@
 #ifndef HELMIX_RECIPE_H
 #define HELMIX_RECIPE_H
 
+#include <stddef.h>
 #include <stdint.h>
 #include <stdio.h>
 
@@ -135,27 +136,52 @@ typedef struct hx_recipe {
     char io_hints[HX_PATH_MAX]; /* MPI-IO hints "key=value,key=value" or "none"            */
     /* derived by hx_recipe_validate */
     hx_code_units code;
-    /* where each key (in key-table order) was last set: its line in the recipe text, or 0
-     * for a default or a --set; lets cross-key messages point at the line */
+    /* where each key (in key-table order) was last set: its line in the recipe text (> 0),
+     * HX_RECIPE_LINE_SET for a --set, 0 for a default; cross-key messages name that origin */
     int line[HX_RECIPE_MAX_KEYS];
+    char origin[256]; /* the name the latest hx_recipe_parse was given ("run.ini"), for messages */
 } hx_recipe;
+
+/* hx_recipe.line of a key given by hx_recipe_set (--set). */
+#define HX_RECIPE_LINE_SET (-1)
+
+/* The largest recipe text hx_recipe_parse_n accepts: a recipe is a small text file. */
+#define HX_RECIPE_TEXT_MAX (1 << 20)
 
 /* Fill r with every default (cells = 0 meaning "not given"). */
 void hx_recipe_defaults(hx_recipe *r);
 
-/* Parse INI text. `origin` names the source in messages ("run.ini"); `basedir` resolves a
- * relative table path (NULL: current directory). Later keys override earlier ones. On an
- * unknown section or key, a malformed value or a value out of range, returns HX_ERR_ARG
- * with a message "origin:line: [section] key = value: what is allowed" (unknown keys name
- * the nearest valid key). Cross-key rules are checked by hx_recipe_validate. */
+/* The text is a recipe or a table a user wrote, not a binary file: HX_ERR_ARG with
+ * "origin:line: ..." at the first NUL byte, other control character (tab, and CR before LF
+ * are allowed), lone CR or invalid UTF-8 (the recipe is stored in output files as UTF-8 text).
+ * Not collective. */
+hx_status hx_recipe_check_text(const char *text, size_t len, const char *origin);
+
+/* Parse the `len` bytes of INI text (hx_recipe_check_text first: a NUL inside is an error,
+ * never the end of the text). `origin` names the source in messages ("run.ini"); `basedir`
+ * resolves a relative table path (NULL: current directory). Lines are "[section]",
+ * "key = value" or comments: a line starting with '#' or ';', and the rest of a line from a
+ * '#' or ';' that follows a blank. Each section and each key may appear once, and at most one
+ * key of a set of alternatives (zeta or compressive_fraction, vrms|mach|virial|linewidth, ...);
+ * HX_ERR_ARG names both lines otherwise. Unknown sections or keys (the nearest valid name
+ * is suggested), malformed values and values out of range give HX_ERR_ARG with one line
+ * "origin:line: [section] key = value: what is allowed". Cross-key rules are checked by
+ * hx_recipe_validate. r changes only on success. */
+hx_status hx_recipe_parse_n(hx_recipe *r, const char *text, size_t len, const char *origin, const char *basedir);
+
+/* hx_recipe_parse_n of a NUL-terminated text. */
 hx_status hx_recipe_parse(hx_recipe *r, const char *text, const char *origin, const char *basedir);
 
-/* Apply one "section.key=value" override (from --set). Messages name "--set". */
+/* Apply one "section.key=value" override (from --set): it replaces the value from the text,
+ * and a key that has alternatives replaces the alternative given (--set mix.zeta=0.3 drops a
+ * compressive_fraction of the file). A value a recipe line could not hold (a control
+ * character, " #" or " ;") is refused. Messages name "--set section.key=value". */
 hx_status hx_recipe_set(hx_recipe *r, const char *assignment);
 
 /* Cross-key checks, derived defaults (kmax default N/2-1, exact default by mix mode, the
  * amplitude, the b of the lognormal width) and the conversion of every quantity to code
- * units. HX_ERR_ARG with one clear line on failure. */
+ * units. HX_ERR_ARG with one clear line on failure, naming where each key it blames came
+ * from: "origin:line: [section] key = value", "--set section.key=value", or the default. */
 hx_status hx_recipe_validate(hx_recipe *r);
 
 /* The largest admissible kmax for these cells and box: min over axes of

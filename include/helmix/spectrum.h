@@ -25,8 +25,17 @@ double hx_spectrum_energy(const hx_spectrum *sp, double k);
  * shell sums follow E(k) (shell area grows as k^2). 0 outside the band. */
 double hx_spectrum_mode_power(const hx_spectrum *sp, double k);
 
-/* Parse (k, E) text: two numbers per line, '#' comments. Returns count via *n, arrays
- * malloc'd. HX_ERR_ARG (message names origin and line) when malformed. Not collective. */
+/* The largest table file helmix reads (a device or a pipe could be endless). */
+#define HX_SPECTRUM_TABLE_MAX (16 << 20)
+
+/* Parse the `len` bytes of (k, E) text: two numbers per line (blanks or a comma between
+ * them), '#' comments; text, not binary (hx_recipe_check_text: a NUL is an error, not the
+ * end). Returns count via *n, arrays malloc'd. HX_ERR_ARG (message names origin and line)
+ * when malformed. Not collective. */
+hx_status hx_spectrum_parse_table_n(const char *text, size_t len, const char *origin, double **k, double **e,
+                                    int *n);
+
+/* hx_spectrum_parse_table_n of a NUL-terminated text. */
 hx_status hx_spectrum_parse_table(const char *text, const char *origin, double **k, double **e, int *n);
 
 void hx_spectrum_destroy(hx_spectrum **sp);

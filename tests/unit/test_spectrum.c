@@ -88,6 +88,29 @@ static void test_table(void)
     snprintf(r.spectrum.table, sizeof r.spectrum.table, "/nonexistent/helmix/table.txt");
     CHECK(hx_spectrum_create(&sp, &r.spectrum, MPI_COMM_SELF) == HX_ERR_ARG);
     CHECK_STR_CONTAINS(hx_error_message(), "cannot read");
+    /* Issue 9: a table is text read to its end. A NUL is an error at its line, not the end of
+     * the rows (the rows after it were dropped before); a device or a directory is no table. */
+    static const char nul[] = "1 1\n2 0.5\n\0004 0.1\n";
+    k = e = NULL;
+    CHECK(hx_spectrum_parse_table_n(nul, sizeof nul - 1, "t.txt", &k, &e, &n) == HX_ERR_ARG);
+    CHECK_STR_CONTAINS(hx_error_message(), "t.txt:3: column 1 holds a NUL byte");
+    FILE *fp2 = fopen(path, "wb");
+    CHECK(fp2 != NULL);
+    if (fp2) {
+        fwrite(nul, 1, sizeof nul - 1, fp2);
+        fclose(fp2);
+    }
+    snprintf(r.spectrum.table, sizeof r.spectrum.table, "%s", path);
+    CHECK(hx_spectrum_create(&sp, &r.spectrum, MPI_COMM_SELF) == HX_ERR_ARG && sp == NULL);
+    CHECK_STR_CONTAINS(hx_error_message(), ":3: column 1 holds a NUL byte");
+    remove(path);
+    snprintf(r.spectrum.table, sizeof r.spectrum.table, "/dev/zero");
+    CHECK(hx_spectrum_create(&sp, &r.spectrum, MPI_COMM_SELF) == HX_ERR_ARG);
+    CHECK_STR_CONTAINS(hx_error_message(), "not a regular file");
+    /* the rows may be split by a comma, and the last line needs no line feed */
+    CHECK(hx_spectrum_parse_table_n("1,2\n3 4", 7, "t.txt", &k, &e, &n) == HX_OK && n == 2 && e[1] == 4);
+    free(k);
+    free(e);
 }
 
 int main(int argc, char **argv)
