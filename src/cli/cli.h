@@ -13,8 +13,9 @@ enum { HX_EXIT_OK = 0, HX_EXIT_CHECK = 1, HX_EXIT_INPUT = 2, HX_EXIT_RUNTIME = 3
 /* 0 for HX_OK, 2 for bad input (HX_ERR_ARG, HX_ERR_EXISTS), 3 otherwise. */
 int hx_cli_exit_code(hx_status st);
 
-/* Collective: rank 0 reads path, every rank gets the text (caller frees). */
-hx_status hx_cli_read_text(const char *path, char **text, MPI_Comm comm);
+/* Collective: rank 0 reads path, every rank gets the text (caller frees) and, when size is
+ * not NULL, its length (the text may hold a NUL before its end). */
+hx_status hx_cli_read_text(const char *path, char **text, size_t *size, MPI_Comm comm);
 
 /* The commands. Each returns an exit code and has printed its error line (rank 0). */
 int hx_cmd_make(int argc, char **argv, MPI_Comm comm, int rank);

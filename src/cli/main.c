@@ -26,7 +26,7 @@ int hx_cli_fail(hx_status st, int rank)
     return hx_cli_exit_code(st);
 }
 
-hx_status hx_cli_read_text(const char *path, char **text, MPI_Comm comm)
+hx_status hx_cli_read_text(const char *path, char **text, size_t *size, MPI_Comm comm)
 {
     int rank = 0;
     long len = -1;
@@ -52,6 +52,7 @@ hx_status hx_cli_read_text(const char *path, char **text, MPI_Comm comm)
         return hx_error_set(HX_ERR_MPI, "MPI_Bcast of %s failed", path);
     }
     *text = buf;
+    if (size) *size = (size_t)len; /* a NUL inside is the reader's to refuse, not the end of the text */
     return HX_OK;
 }
 

@@ -10,22 +10,19 @@ hx_status hx_cli_load_recipe(const char *path, const char *output, const char *c
                              MPI_Comm comm)
 {
     char *text = NULL, dir[HX_PATH_MAX] = ".";
-    hx_status st = hx_cli_read_text(path, &text, comm);
+    size_t size = 0;
+    hx_status st = hx_cli_read_text(path, &text, &size, comm);
     if (st != HX_OK) return st;
     const char *slash = strrchr(path, '/');
     if (slash) snprintf(dir, sizeof dir, "%.*s", (int)(slash - path), path);
     hx_recipe_defaults(r);
-    st = hx_recipe_parse(r, text, path, dir);
+    st = hx_recipe_parse_n(r, text, size, path, dir);
     free(text);
     for (int i = 0; st == HX_OK && i < nsets; i++) st = hx_recipe_set(r, sets[i]);
     if (st == HX_OK && output) {
         if (strlen(output) >= sizeof r->file) return hx_error_set(HX_ERR_ARG, "-o: path too long");
         snprintf(r->file, sizeof r->file, "%s", output);
     }
-    if (st == HX_OK && (st = hx_recipe_validate(r)) != HX_OK) {
-        char msg[1024]; /* cross-key rules know the key, not the line: name the file at least */
-        snprintf(msg, sizeof msg, "%s", hx_error_message());
-        hx_error_set(st, "%s: %s", path, msg);
-    }
+    if (st == HX_OK) st = hx_recipe_validate(r); /* its messages name the file and line, or the --set */
     return st;
 }
