@@ -5,11 +5,78 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 #include "cli.h"
+#include "options.h"
 #include "helmix/inspect.h"
 #include "helmix/plot.h"
 #include "helmix/report.h"
+
+enum {
+    O_VECTOR, O_ORDER, O_BOX, O_DENSITY, O_MAGNETIC, O_MAGNETIC_FACE, O_SOUND_SPEED, O_GRAVITY, O_GAMMA, O_REMOVE_SCALE,
+    O_FIT, O_CHECK, O_EXPECT, O_TOLERANCE, O_JSON, O_CSV, O_PLOT, O_TIMINGS, O_QUIET, O_VERBOSE, O_HELP
+};
+
+static const hx_opt inspect_options[] = {
+    {"", 0, NULL, 0, 0, "input:"},
+    {"vector", 0, "PX,PY,PZ", O_VECTOR, 0,
+     "three 3-D datasets holding vx, vy, vz; or one name P: a 4-D\ndataset with a component axis of length 3 (first or "
+     "last)\n(default: the helmix layout /data/grid_0000000000/velocity_x|y|z)"},
+    {"order", 0, "zyx|xyz", O_ORDER, 0,
+     "axis order of the datasets: zyx (default) = (Nz, Ny, Nx), x fastest;\nxyz = (Nx, Ny, Nz), z fastest"},
+    {"box", 0, "Lx,Ly,Lz", O_BOX, 0, "box size when the file does not record it (default 1,1,1)"},
+    {"density", 0, "PATH", O_DENSITY, 0,
+     "mass weighting: decompose sqrt(rho) v (common practice for\ncompressible turbulence), PATH a 3-D dataset of the "
+     "same shape;\nalso reports the state. A helmix file with a density reports\nits state without it, and decomposes "
+     "sqrt(rho) v by itself when\nits mix was asked for sqrt(rho) v ([mix] weight = mass)"},
+    {"magnetic", 0, "PX,PY,PZ", O_MAGNETIC, 0,
+     "cell-centred magnetic field (three 3-D datasets, or one 4-D\ndataset P), code magnetic units: v_A = B / sqrt(rho)\n"
+     "(default: a helmix file's magnetic_x|y|z when it has them)"},
+    {"magnetic-face", 0, "PX,PY,PZ", O_MAGNETIC_FACE, 0,
+     "the same field on a staggered grid: component c on the\nlow-c face of each cell (x_c = i dx_c, the other "
+     "coordinates\nat cell centres); its discrete divergence is reported\n(default: a helmix file's "
+     "magnetic_face_x|y|z); needs --magnetic"},
+    {"", 0, NULL, 0, 0, "state (with a density; a magnetic field's beta needs only the sound speed):"},
+    {"sound-speed", 0, "CS", O_SOUND_SPEED, 0,
+     "sound speed in code velocity for the Mach number sigma_3D / CS\nand the plasma beta\n(default: the one a helmix "
+     "file records; none for other files)"},
+    {"gravity", 0, "G", O_GRAVITY, 0,
+     "gravitational constant in code units for the virial parameter\n(default: a helmix file's; none for other files). "
+     "The region is\na helmix file's cloud, else the whole box with R = max(L)/2"},
+    {"gamma", 0, "G", O_GAMMA, 0,
+     "adiabatic index for the plasma beta, P = <rho> c_s^2 / G\n(default: a helmix file's; else 1, c_s isothermal)"},
+    {"", 0, NULL, 0, 0, "analysis:"},
+    {"remove-scale", 0, "L", O_REMOVE_SCALE, 0,
+     "subtract the flow smoothed with a Gaussian of width L (code\nlength) first, so bulk motions on scales above L are "
+     "not counted"},
+    {"fit", 0, "KMIN,KMAX", O_FIT, 0,
+     "shells of the slope fit (default: the recorded band, else [2, N/4];\nfor the magnetic spectrum [2, N/4] ended at "
+     "its last shell\nabove 1e-10 of the largest)"},
+    {"", 0, NULL, 0, 0, "verdict:"},
+    {"check", 0, NULL, O_CHECK, 0,
+     "compare with the request recorded in the file's /helmix group\nand its state (/helmix/state: the asked Mach number, "
+     "virial\nparameter, sigma_3D or sigma_s, else the values make measured;\nzero net momentum when make removed the "
+     "bulk flow; the\nmagnetic field's mean, random rms, beta and Alfven Mach number\nand zero divergence when make "
+     "wrote one), or with\n--expect; exit 0 if every line passes, 1 if not"},
+    {"expect", 0, "KEY=V,...", O_EXPECT, 0,
+     "what the cube should hold, any subset of fraction, slope, vrms,\nmach, virial, sigma_s (the state in a density), "
+     "beta,\nalfven_mach (the mean magnetic field); implies --check"},
+    {"tolerance", 0, "KEY=T,...", O_TOLERANCE, 0,
+     "tolerances: fraction, slope, vrms (relative), state (relative),\nmagnetic (relative), divergence; with --expect "
+     "the defaults are\n1 % (0.01) for fraction, vrms, state and magnetic, 0.15 for slope"},
+    {"", 0, NULL, 0, 0, "output:"},
+    {"json", 0, "FILE", O_JSON, 0, "every number as JSON"},
+    {"csv", 0, "FILE", O_CSV, 0, "per-shell table"},
+    {"plot", 0, "FILE.png|.pdf", O_PLOT, 0, "one report page"},
+    {"timings", 0, "FILE.json", O_TIMINGS, 0,
+     "wall time, bytes read and transforms per phase (open, plan, read,\nmoments, transform, accumulate, slices, "
+     "finish, report), min/mean/max\nover the ranks, and peak memory per rank (docs/timings.schema.json)"},
+    {"quiet", 'q', NULL, O_QUIET, 0, "no progress lines"},
+    {"verbose", 'v', NULL, O_VERBOSE, 0, "also the options as read: datasets, box, fit band, what --check compares"},
+    {"help", 'h', NULL, O_HELP, 0, "this text"},
+    {NULL, 0, NULL, 0, 0, NULL},
+};
 
 static void inspect_usage(FILE *out)
 {
@@ -21,63 +88,10 @@ static void inspect_usage(FILE *out)
             "virial parameter 5 sigma_1D^2 R / (G M) (Bertoldi & McKee 1992), mean and sigma_s of\n"
             "ln rho, net momentum. With a magnetic field its rms and mean, beta and Alfven Mach\n"
             "number of the mean field, magnetic energy spectrum and slope, and its divergence\n"
-            "(spectral, and discrete on a face-centred field). Reads helmix files and any HDF5 cube.\n\n"
-            "input:\n"
-            "  --vector PX,PY,PZ       three 3-D datasets holding vx, vy, vz\n"
-            "  --vector P              one 4-D dataset with a component axis of length 3 (first or last)\n"
-            "                          (default: the helmix layout /data/grid_0000000000/velocity_x|y|z)\n"
-            "  --order zyx|xyz         axis order of the datasets: zyx (default) = (Nz, Ny, Nx), x fastest;\n"
-            "                          xyz = (Nx, Ny, Nz), z fastest\n"
-            "  --box Lx,Ly,Lz          box size when the file does not record it (default 1,1,1)\n"
-            "  --density PATH          mass weighting: decompose sqrt(rho) v (common practice for\n"
-            "                          compressible turbulence), PATH a 3-D dataset of the same shape;\n"
-            "                          also reports the state. A helmix file with a density reports\n"
-            "                          its state without it, and decomposes sqrt(rho) v by itself when\n"
-            "                          its mix was asked for sqrt(rho) v ([mix] weight = mass)\n"
-            "  --magnetic PX,PY,PZ     cell-centred magnetic field (three 3-D datasets, or one 4-D\n"
-            "                          dataset P), code magnetic units: v_A = B / sqrt(rho)\n"
-            "                          (default: a helmix file's magnetic_x|y|z when it has them)\n"
-            "  --magnetic-face PX,PY,PZ  the same field on a staggered grid: component c on the\n"
-            "                          low-c face of each cell (x_c = i dx_c, the other coordinates\n"
-            "                          at cell centres); its discrete divergence is reported\n"
-            "                          (default: a helmix file's magnetic_face_x|y|z); needs --magnetic\n"
-            "state (with a density; a magnetic field's beta needs only the sound speed):\n"
-            "  --sound-speed CS        sound speed in code velocity for the Mach number sigma_3D / CS\n"
-            "                          and the plasma beta\n"
-            "                          (default: the one a helmix file records; none for other files)\n"
-            "  --gravity G             gravitational constant in code units for the virial parameter\n"
-            "                          (default: a helmix file's; none for other files). The region is\n"
-            "                          a helmix file's cloud, else the whole box with R = max(L)/2\n"
-            "  --gamma G               adiabatic index for the plasma beta, P = <rho> c_s^2 / G\n"
-            "                          (default: a helmix file's; else 1, c_s isothermal)\n"
-            "analysis:\n"
-            "  --remove-scale L        subtract the flow smoothed with a Gaussian of width L (code\n"
-            "                          length) first, so bulk motions on scales above L are not counted\n"
-            "  --fit KMIN,KMAX         shells of the slope fit (default: the recorded band, else [2, N/4];\n"
-            "                          for the magnetic spectrum [2, N/4] ended at its last shell\n"
-            "                          above 1e-10 of the largest)\n"
-            "verdict:\n"
-            "  --check                 compare with the request recorded in the file's /helmix group\n"
-            "                          and its state (/helmix/state: the asked Mach number, virial\n"
-            "                          parameter, sigma_3D or sigma_s, else the values make measured;\n"
-            "                          zero net momentum when make removed the bulk flow; the\n"
-            "                          magnetic field's mean, random rms, beta and Alfven Mach number\n"
-            "                          and zero divergence when make wrote one), or with\n"
-            "                          --expect; exit 0 if every line passes, 1 if not\n"
-            "  --expect KEY=V,...      what the cube should hold, any subset of fraction, slope, vrms,\n"
-            "                          mach, virial, sigma_s (the state in a density), beta,\n"
-            "                          alfven_mach (the mean magnetic field)\n"
-            "  --tolerance KEY=T,...   tolerances: fraction, slope, vrms (relative), state (relative),\n"
-            "                          magnetic (relative), divergence; with --expect the defaults are\n"
-            "                          1 %% (0.01) for fraction, vrms, state and magnetic, 0.15 for slope\n"
-            "output:\n"
-            "  --json FILE             every number as JSON\n"
-            "  --csv FILE              per-shell table\n"
-            "  --plot FILE.png|.pdf    one report page\n"
-            "  --timings FILE.json     wall time, bytes read and transforms per phase (open, plan, read,\n"
-            "                          moments, transform, accumulate, slices, finish, report), min/mean/max\n"
-            "                          over the ranks, and peak memory per rank (docs/timings.schema.json)\n"
-            "  --quiet                 no progress lines\n");
+            "(spectral, and discrete on a face-centred field). Reads helmix files and any HDF5 cube.\n\n");
+    hx_opt_help(out, inspect_options);
+    fprintf(out, "\nexit status: 0 success (every --check line passes), 1 a --check line fails, 2 bad input\n"
+                 "(options, files; found before any analysis), 3 run-time failure\n");
 }
 
 typedef struct {
@@ -89,6 +103,7 @@ typedef struct {
 static hx_status numbers(const char *opt, const char *text, double *v, int n)
 {
     char buf[256];
+    if (strlen(text) >= sizeof buf) return hx_error_set(HX_ERR_ARG, "%s: value too long", opt);
     snprintf(buf, sizeof buf, "%s", text);
     char *save = NULL, *tok = strtok_r(buf, ",", &save);
     for (int i = 0; i < n; i++, tok = strtok_r(NULL, ",", &save)) {
@@ -100,75 +115,83 @@ static hx_status numbers(const char *opt, const char *text, double *v, int n)
     return HX_OK;
 }
 
-static hx_status option_value(hx_inspect_opts *o, inspect_args *a, const char *opt, const char *val)
+/* A number > 0 for --sound-speed, --gravity, --gamma or --remove-scale. */
+static hx_status positive(const char *opt, const char *val, double *dst, const char *what)
 {
-    if (!strcmp(opt, "--vector")) o->cube.vector = val;
-    else if (!strcmp(opt, "--magnetic")) o->cube.magnetic = val;
-    else if (!strcmp(opt, "--magnetic-face")) o->cube.magnetic_face = val;
-    else if (!strcmp(opt, "--density")) o->cube.density = val;
-    else if (!strcmp(opt, "--json")) a->json = val;
-    else if (!strcmp(opt, "--csv")) a->csv = val;
-    else if (!strcmp(opt, "--plot")) a->plot = val;
-    else if (!strcmp(opt, "--timings")) a->timings = val;
-    else if (!strcmp(opt, "--expect")) a->expect = val;
-    else if (!strcmp(opt, "--tolerance")) a->tolerance = val;
-    else if (!strcmp(opt, "--order")) {
+    hx_status st = numbers(opt, val, dst, 1);
+    if (st == HX_OK && !(*dst > 0)) st = hx_error_set(HX_ERR_ARG, "%s %s: must be %s", opt, val, what);
+    return st;
+}
+
+static hx_status inspect_option(void *ctx, const hx_opt *opt, const char *val)
+{
+    inspect_args *a = ctx;
+    hx_inspect_opts *o = &a->o;
+    if (!opt) {
+        if (o->cube.file) return hx_error_set(HX_ERR_ARG, "more than one file given ('%s' and '%s')", o->cube.file, val);
+        o->cube.file = val;
+        return HX_OK;
+    }
+    switch (opt->id) {
+    case O_VECTOR: o->cube.vector = val; break;
+    case O_MAGNETIC: o->cube.magnetic = val; break;
+    case O_MAGNETIC_FACE: o->cube.magnetic_face = val; break;
+    case O_DENSITY: o->cube.density = val; break;
+    case O_JSON: a->json = val; break;
+    case O_CSV: a->csv = val; break;
+    case O_PLOT: a->plot = val; break;
+    case O_TIMINGS: a->timings = val; break;
+    case O_EXPECT: a->expect = val; break;
+    case O_TOLERANCE: a->tolerance = val; break;
+    case O_CHECK: a->check = 1; break;
+    case O_QUIET: a->verbosity = HX_LOG_QUIET; break;
+    case O_VERBOSE: a->verbosity = HX_LOG_DEBUG; break;
+    case O_HELP: a->help = 1; break;
+    case O_ORDER:
         if (!strcmp(val, "zyx")) o->cube.order = HX_ORDER_ZYX;
         else if (!strcmp(val, "xyz")) o->cube.order = HX_ORDER_XYZ;
         else return hx_error_set(HX_ERR_ARG, "--order %s: must be zyx or xyz", val);
-    } else if (!strcmp(opt, "--box")) {
-        hx_status st = numbers(opt, val, o->cube.box, 3);
+        break;
+    case O_BOX: {
+        hx_status st = numbers("--box", val, o->cube.box, 3);
         if (st != HX_OK) return st;
         for (int i = 0; i < 3; i++)
             if (!(o->cube.box[i] > 0)) return hx_error_set(HX_ERR_ARG, "--box %s: every side must be > 0", val);
         o->cube.has_box = 1;
-    } else if (!strcmp(opt, "--remove-scale")) {
-        hx_status st = numbers(opt, val, &o->remove_scale, 1);
+        break;
+    }
+    case O_REMOVE_SCALE: return positive("--remove-scale", val, &o->remove_scale, "a length > 0");
+    case O_SOUND_SPEED: return positive("--sound-speed", val, &o->sound_speed, "a number > 0 (code units)");
+    case O_GRAVITY: return positive("--gravity", val, &o->gravity, "a number > 0 (code units)");
+    case O_GAMMA: return positive("--gamma", val, &o->gamma, "a number > 0");
+    case O_FIT: {
+        hx_status st = numbers("--fit", val, o->fit, 2);
         if (st != HX_OK) return st;
-        if (!(o->remove_scale > 0)) return hx_error_set(HX_ERR_ARG, "--remove-scale %s: must be a length > 0", val);
-    } else if (!strcmp(opt, "--sound-speed") || !strcmp(opt, "--gravity") || !strcmp(opt, "--gamma")) {
-        double *dst = opt[2] == 's' ? &o->sound_speed : !strcmp(opt, "--gamma") ? &o->gamma : &o->gravity;
-        hx_status st = numbers(opt, val, dst, 1);
-        if (st != HX_OK) return st;
-        if (!(*dst > 0))
-            return hx_error_set(HX_ERR_ARG, "%s %s: must be a number > 0%s", opt, val, dst == &o->gamma ? "" : " (code units)");
-    } else if (!strcmp(opt, "--fit")) {
-        hx_status st = numbers(opt, val, o->fit, 2);
-        if (st != HX_OK) return st;
-        if (!(o->fit[0] >= 1 && o->fit[1] > o->fit[0]))
-            return hx_error_set(HX_ERR_ARG, "--fit %s: need 1 <= KMIN < KMAX (shells)", val);
-    } else
-        return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix inspect --help)", opt);
+        if (!(o->fit[0] >= 1 && o->fit[1] > o->fit[0])) return hx_error_set(HX_ERR_ARG, "--fit %s: need 1 <= KMIN < KMAX (shells)", val);
+        break;
+    }
+    default: break;
+    }
     return HX_OK;
+}
+
+/* --expect and --tolerance as the verdict will read them, on a scratch request: a wrong key or
+ * value is refused before any analysis, in the words the verdict would use. */
+static hx_status check_verdict_text(const inspect_args *a)
+{
+    hx_request q;
+    hx_request_defaults(&q, 0, 0);
+    hx_status st = a->expect ? hx_request_parse(&q, a->expect, 0, "--expect") : HX_OK;
+    if (st == HX_OK && a->tolerance) st = hx_request_parse(&q, a->tolerance, 1, "--tolerance");
+    return st;
 }
 
 static hx_status parse_args(int argc, char **argv, inspect_args *a)
 {
     a->verbosity = HX_LOG_INFO;
-    for (int i = 0; i < argc; i++) {
-        const char *s = argv[i];
-        if (!strcmp(s, "-h") || !strcmp(s, "--help")) a->help = 1;
-        else if (!strcmp(s, "--check")) a->check = 1;
-        else if (!strcmp(s, "--quiet") || !strcmp(s, "-q")) a->verbosity = HX_LOG_QUIET;
-        else if (!strncmp(s, "--", 2)) {
-            const char *eq = strchr(s, '=');
-            char opt[64];
-            const char *val;
-            if (eq) {
-                snprintf(opt, sizeof opt, "%.*s", (int)(eq - s), s);
-                val = eq + 1;
-            } else {
-                snprintf(opt, sizeof opt, "%s", s);
-                if (i + 1 >= argc) return hx_error_set(HX_ERR_ARG, "option %s needs a value", s);
-                val = argv[++i];
-            }
-            hx_status st = option_value(&a->o, a, opt, val);
-            if (st != HX_OK) return st;
-        } else if (s[0] == '-' && s[1]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix inspect --help)", s);
-        else if (a->o.cube.file) return hx_error_set(HX_ERR_ARG, "more than one file given ('%s' and '%s')", a->o.cube.file, s);
-        else a->o.cube.file = s;
-    }
-    if (!a->help && !a->o.cube.file) return hx_error_set(HX_ERR_ARG, "no file given (helmix inspect --help)");
+    hx_status st = hx_opt_parse("inspect", inspect_options, argc, argv, inspect_option, a);
+    if (st != HX_OK || a->help) return st;
+    if (!a->o.cube.file) return hx_error_set(HX_ERR_ARG, "no file given (helmix inspect --help)");
     if (a->o.cube.magnetic_face && !a->o.cube.magnetic)
         return hx_error_set(HX_ERR_ARG, "--magnetic-face %s: name the cell-centred field with --magnetic too",
                             a->o.cube.magnetic_face);
@@ -179,7 +202,27 @@ static hx_status parse_args(int argc, char **argv, inspect_args *a)
             return hx_error_set(HX_ERR_ARG, "--plot %s: the file name must end in .png or .pdf", a->plot);
     }
     a->o.slices = a->plot != NULL;
-    return HX_OK;
+    if (a->expect) a->check = 1; /* an expectation nobody checks would let a job script's gate always pass */
+    return check_verdict_text(a);
+}
+
+/* --verbose: the options as they were read, before the analysis. */
+static void say_options(const hx_log *log, const inspect_args *a)
+{
+    if (log->verbosity < HX_LOG_DEBUG) return;
+    const hx_cube_spec *c = &a->o.cube;
+    hx_log_say(log, HX_LOG_DEBUG, "velocity %s, order %s, box %s", c->vector ? c->vector : "the helmix layout",
+               c->order == HX_ORDER_XYZ ? "xyz" : "zyx", c->has_box ? "from --box" : "from the file, else 1,1,1");
+    if (c->has_box) hx_log_say(log, HX_LOG_DEBUG, "box %g x %g x %g", c->box[0], c->box[1], c->box[2]);
+    hx_log_say(log, HX_LOG_DEBUG, "density %s, magnetic %s%s%s", c->density ? c->density : "the file's, if any",
+               c->magnetic ? c->magnetic : "the file's, if any", c->magnetic_face ? ", faces " : "",
+               c->magnetic_face ? c->magnetic_face : "");
+    if (a->o.fit[1] > 0) hx_log_say(log, HX_LOG_DEBUG, "slope fit over shells %g to %g", a->o.fit[0], a->o.fit[1]);
+    else hx_log_say(log, HX_LOG_DEBUG, "slope fit over the recorded band, else shells 2 to N/4");
+    if (a->o.remove_scale > 0) hx_log_say(log, HX_LOG_DEBUG, "flow smoothed on %g removed first", a->o.remove_scale);
+    if (a->check)
+        hx_log_say(log, HX_LOG_DEBUG, "check against %s%s%s", a->expect ? "--expect " : "the request the file records",
+                   a->expect ? a->expect : "", a->tolerance ? " with --tolerance" : "");
 }
 
 /* Rank 0: table, verdict, files. Returns the status of writing the files. */
@@ -210,10 +253,15 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
         return HX_EXIT_OK;
     }
     if (st != HX_OK) return hx_cli_fail(st, rank);
+    /* before MPI-IO opens the input: a directory or a missing file is one line, not the MPI
+     * library's trace; no output may be the input or another output */
+    const hx_cli_file in[] = {{"FILE", a.o.cube.file}};
+    const hx_cli_file out[] = {{"--json", a.json}, {"--csv", a.csv}, {"--plot", a.plot}, {"--timings", a.timings}};
+    st = hx_cli_check_files_agreed(in, 1, out, 4, comm);
+    if (st != HX_OK) return hx_cli_fail(st, rank);
     hx_timer *timer = NULL;
-    if (a.timings) { /* a missing directory is refused before any work */
-        st = hx_timer_check_path(a.timings, comm);
-        if (st == HX_OK) st = hx_error_agree(comm, hx_timer_create(&timer, "inspect"));
+    if (a.timings) {
+        st = hx_error_agree(comm, hx_timer_create(&timer, "inspect"));
         if (st != HX_OK) return hx_cli_fail(st, rank);
         hx_timer_note_text(timer, "file", a.o.cube.file);
         hx_timer_note(timer, "threads", 1); /* inspect runs one thread per rank */
@@ -221,6 +269,7 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
     }
     hx_log log;
     hx_log_init(&log, comm, a.verbosity, stderr);
+    say_options(&log, &a);
     hx_diag d;
     hx_request q;
     int found = 0;

@@ -6,8 +6,24 @@
 #include <string.h>
 
 #include "cli.h"
+#include "options.h"
 #include "helmix/plan.h"
 #include "helmix/recipe.h"
+
+enum { O_RANKS, O_THREADS, O_MEM, O_SET, O_OUTPUT, O_JSON, O_HELP };
+
+static const hx_opt plan_options[] = {
+    {"ranks", 'n', "P", O_RANKS, 0, "MPI ranks of the planned run (required)"},
+    {"threads", 0, "T", O_THREADS, 0, "threads per rank (default 1)"},
+    {"mem-per-rank", 0, "SIZE", O_MEM, 0,
+     "memory a rank may use, e.g. 3.5G, 1800MiB (K, M, G = powers of\n1000; Ki, Mi, Gi = powers of 1024); exit 2 if "
+     "the run cannot fit"},
+    {"set", 0, "section.key=value", O_SET, HX_OPT_REPEAT, "override one recipe key, as for make; may be repeated"},
+    {"output", 'o', "FILE", O_OUTPUT, 0, "the output file, as for make (only named in the plan: nothing is written)"},
+    {"json", 0, NULL, O_JSON, 0, "print the plan as JSON instead of the table"},
+    {"help", 'h', NULL, O_HELP, 0, "this text"},
+    {NULL, 0, NULL, 0, 0, NULL},
+};
 
 static void plan_usage(FILE *out)
 {
@@ -17,49 +33,44 @@ static void plan_usage(FILE *out)
             "decomposition, the peak memory of a rank (with kept and with regenerated draws, and which\n"
             "[output] draws = auto takes), the file size, the bytes each rank writes and the transforms.\n"
             "Runs on one process whatever P is.\n\n"
-            "options:\n"
-            "  --ranks P                  MPI ranks of the planned run (required)\n"
-            "  --threads T                threads per rank (default 1)\n"
-            "  --mem-per-rank SIZE        memory a rank may use, e.g. 3.5G, 1800MiB (K, M, G = powers of\n"
-            "                             1000; Ki, Mi, Gi = powers of 1024); exit 2 if the run cannot fit\n"
-            "  --set section.key=value    override one recipe key, as for make; may be repeated\n"
-            "  -o, --output FILE          the output file, as for make\n"
-            "  --json                     print the plan as JSON instead of the table\n"
-            "  -h, --help                 this text\n\n"
-            "exit status: 0 the run fits (or no budget was given), 2 bad input or it does not fit\n");
+            "options:\n");
+    hx_opt_help(out, plan_options);
+    fprintf(out, "\nexit status: 0 the run fits (or no budget was given), 2 bad input or it does not fit\n");
 }
 
 typedef struct {
     const char *recipe, *output, *ranks, *threads, *mem;
     const char **sets;
-    int nsets, json, help;
+    int nsets, maxsets, json, help;
 } plan_args;
+
+static hx_status plan_option(void *ctx, const hx_opt *o, const char *v)
+{
+    plan_args *a = ctx;
+    if (!o) {
+        if (a->recipe) return hx_error_set(HX_ERR_ARG, "more than one recipe given ('%s' and '%s')", a->recipe, v);
+        a->recipe = v;
+        return HX_OK;
+    }
+    switch (o->id) {
+    case O_RANKS: a->ranks = v; break;
+    case O_THREADS: a->threads = v; break;
+    case O_MEM: a->mem = v; break;
+    case O_OUTPUT: a->output = v; break;
+    case O_SET:
+        if (a->nsets >= a->maxsets) return hx_error_set(HX_ERR_ARG, "--set: more than %d given", a->maxsets);
+        a->sets[a->nsets++] = v;
+        break;
+    case O_JSON: a->json = 1; break;
+    default: a->help = 1; break;
+    }
+    return HX_OK;
+}
 
 static hx_status parse_plan_args(int argc, char **argv, plan_args *a)
 {
-    for (int i = 0; i < argc; i++) {
-        const char *s = argv[i], **slot = NULL;
-        if (!strcmp(s, "-h") || !strcmp(s, "--help")) a->help = 1;
-        else if (!strcmp(s, "--json")) a->json = 1;
-        else if (!strcmp(s, "--ranks") || !strcmp(s, "-n")) slot = &a->ranks;
-        else if (!strcmp(s, "--threads")) slot = &a->threads;
-        else if (!strcmp(s, "--mem-per-rank")) slot = &a->mem;
-        else if (!strcmp(s, "-o") || !strcmp(s, "--output")) slot = &a->output;
-        else if (!strcmp(s, "--set")) slot = &a->sets[a->nsets++];
-        else if (!strncmp(s, "--ranks=", 8)) a->ranks = s + 8;
-        else if (!strncmp(s, "--threads=", 10)) a->threads = s + 10;
-        else if (!strncmp(s, "--mem-per-rank=", 15)) a->mem = s + 15;
-        else if (!strncmp(s, "--output=", 9)) a->output = s + 9;
-        else if (!strncmp(s, "--set=", 6)) a->sets[a->nsets++] = s + 6;
-        else if (s[0] == '-' && s[1]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix plan --help)", s);
-        else if (a->recipe) return hx_error_set(HX_ERR_ARG, "more than one recipe given ('%s' and '%s')", a->recipe, s);
-        else a->recipe = s;
-        if (slot) {
-            if (i + 1 >= argc) return hx_error_set(HX_ERR_ARG, "option %s needs a value", s);
-            *slot = argv[++i];
-        }
-    }
-    if (a->help) return HX_OK;
+    hx_status st = hx_opt_parse("plan", plan_options, argc, argv, plan_option, a);
+    if (st != HX_OK || a->help) return st;
     if (!a->recipe) return hx_error_set(HX_ERR_ARG, "no recipe given (helmix plan RECIPE --ranks P)");
     if (!a->ranks) return hx_error_set(HX_ERR_ARG, "--ranks P is required: the number of MPI ranks make will run on");
     return HX_OK;
@@ -81,11 +92,12 @@ int hx_cmd_plan(int argc, char **argv, MPI_Comm comm, int rank)
     plan_args a = {0};
     const char *sets[256];
     a.sets = sets;
+    a.maxsets = 256;
     int size = 1, ranks = 0, threads = 1;
     double budget = 0;
     hx_recipe r;
     hx_plan p;
-    hx_status st = argc > 256 ? hx_error_set(HX_ERR_ARG, "too many arguments") : parse_plan_args(argc, argv, &a);
+    hx_status st = parse_plan_args(argc, argv, &a);
     if (st == HX_OK && a.help) {
         if (rank == 0) plan_usage(stdout);
         return HX_EXIT_OK;

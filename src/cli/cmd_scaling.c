@@ -7,8 +7,20 @@
 #include <strings.h>
 
 #include "cli.h"
+#include "options.h"
 #include "helmix/scaling.h"
-#include "helmix/timer.h"
+
+enum { O_TABLE, O_PLOT, O_KIND, O_QUIET, O_HELP };
+
+static const hx_opt scaling_options[] = {
+    {"table", 0, "OUT.md", O_TABLE, 0, "write the table to a file too"},
+    {"plot", 0, "OUT.png|.pdf", O_PLOT, 0,
+     "one page: efficiency against cores for every group, time per\nphase against cores for the group with the most runs"},
+    {"kind", 0, "strong|weak|auto", O_KIND, 0, "how to group the runs and define efficiency"},
+    {"quiet", 'q', NULL, O_QUIET, 0, "do not print the table"},
+    {"help", 'h', NULL, O_HELP, 0, "this text"},
+    {NULL, 0, NULL, 0, 0, NULL},
+};
 
 static void scaling_usage(FILE *out)
 {
@@ -26,14 +38,11 @@ static void scaling_usage(FILE *out)
             "          is T1/T at exactly equal cells per core\n"
             "  auto    (default) strong when a command and cells were run on two or more core counts,\n"
             "          else weak\n\n"
-            "options:\n"
-            "  --table OUT.md          write the table to a file too\n"
-            "  --plot OUT.png|.pdf     one page: efficiency against cores for every group, time per\n"
-            "                          phase against cores for the group with the most runs\n"
-            "  --kind strong|weak|auto how to group the runs and define efficiency\n"
-            "  --quiet                 do not print the table\n\n"
-            "exit status: 0 success, 2 bad input (no files, a file that is missing, unreadable, not JSON\n"
-            "or not a helmix timings file, an output directory that does not exist), 3 run-time failure\n");
+            "options:\n");
+    hx_opt_help(out, scaling_options);
+    fprintf(out, "\nexit status: 0 success, 2 bad input (no files, a file that is missing, unreadable, not JSON\n"
+                 "or not a helmix timings file, an output directory that does not exist, an output that is one\n"
+                 "of the inputs), 3 run-time failure\n");
 }
 
 typedef struct scaling_args {
@@ -44,21 +53,31 @@ typedef struct scaling_args {
     int help, quiet;
 } scaling_args;
 
-static hx_status option(scaling_args *a, const char *opt, const char *val)
+static hx_status scaling_option(void *ctx, const hx_opt *o, const char *val)
 {
-    if (!strcmp(opt, "--table")) a->table = val;
-    else if (!strcmp(opt, "--plot")) {
+    scaling_args *a = ctx;
+    if (!o) {
+        a->files[a->nfiles++] = val;
+        return HX_OK;
+    }
+    switch (o->id) {
+    case O_TABLE: a->table = val; break;
+    case O_PLOT: {
         const char *dot = strrchr(val, '.');
         if (!dot || (strcasecmp(dot, ".png") && strcasecmp(dot, ".pdf")))
             return hx_error_set(HX_ERR_ARG, "--plot %s: the file name must end in .png or .pdf", val);
         a->plot = val;
-    } else if (!strcmp(opt, "--kind")) {
+        break;
+    }
+    case O_KIND:
         if (!strcmp(val, "strong")) a->kind = HX_SCALING_STRONG;
         else if (!strcmp(val, "weak")) a->kind = HX_SCALING_WEAK;
         else if (!strcmp(val, "auto")) a->kind = HX_SCALING_AUTO;
         else return hx_error_set(HX_ERR_ARG, "--kind %s: must be strong, weak or auto", val);
-    } else
-        return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix scaling --help)", opt);
+        break;
+    case O_QUIET: a->quiet = 1; break;
+    default: a->help = 1; break;
+    }
     return HX_OK;
 }
 
@@ -66,42 +85,22 @@ static hx_status parse_args(int argc, char **argv, scaling_args *a)
 {
     if (!(a->files = calloc((size_t)(argc > 0 ? argc : 1), sizeof *a->files)))
         return hx_error_set(HX_ERR_MEM, "out of memory reading the options");
-    for (int i = 0; i < argc; i++) {
-        const char *s = argv[i];
-        if (!strcmp(s, "-h") || !strcmp(s, "--help")) a->help = 1;
-        else if (!strcmp(s, "--quiet") || !strcmp(s, "-q")) a->quiet = 1;
-        else if (!strncmp(s, "--", 2)) {
-            const char *eq = strchr(s, '=');
-            size_t len = eq ? (size_t)(eq - s) : strlen(s);
-            if (!((len == 7 && !strncmp(s, "--table", 7)) || (len == 6 && !strncmp(s, "--plot", 6)) ||
-                  (len == 6 && !strncmp(s, "--kind", 6))))
-                return hx_error_set(HX_ERR_ARG, "unknown option '%.*s' (see helmix scaling --help)", (int)len, s);
-            char opt[64];
-            const char *val;
-            if (eq) {
-                snprintf(opt, sizeof opt, "%.*s", (int)(eq - s), s);
-                val = eq + 1;
-            } else {
-                snprintf(opt, sizeof opt, "%s", s);
-                if (i + 1 >= argc) return hx_error_set(HX_ERR_ARG, "option %s needs a value", s);
-                val = argv[++i];
-            }
-            hx_status st = option(a, opt, val);
-            if (st != HX_OK) return st;
-        } else if (s[0] == '-' && s[1]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix scaling --help)", s);
-        else a->files[a->nfiles++] = s;
-    }
-    if (!a->help && a->nfiles == 0) return hx_error_set(HX_ERR_ARG, "no timing files given (helmix scaling FILE.json...; see --help)");
-    return HX_OK;
+    hx_status st = hx_opt_parse("scaling", scaling_options, argc, argv, scaling_option, a);
+    if (st == HX_OK && !a->help && a->nfiles == 0)
+        return hx_error_set(HX_ERR_ARG, "no timing files given (helmix scaling FILE.json...; see --help)");
+    return st;
 }
 
-/* Rank 0: check the outputs' directories, read, print, write. */
+/* Rank 0: check the inputs and the outputs, read, print, write. */
 static hx_status scaling(const scaling_args *a)
 {
     hx_scaling s;
-    hx_status st = HX_OK;
-    if (a->table) st = hx_timer_check_output("--table", a->table);
-    if (st == HX_OK && a->plot) st = hx_timer_check_output("--plot", a->plot);
+    hx_cli_file *in = calloc((size_t)a->nfiles, sizeof *in);
+    if (!in) return hx_error_set(HX_ERR_MEM, "out of memory checking the files");
+    for (int i = 0; i < a->nfiles; i++) in[i] = (hx_cli_file){"FILE", a->files[i]};
+    const hx_cli_file out[] = {{"--table", a->table}, {"--plot", a->plot}};
+    hx_status st = hx_cli_check_files(in, a->nfiles, out, 2);
+    free(in);
     if (st == HX_OK) st = hx_scaling_load(&s, a->files, a->nfiles, a->kind);
     if (st != HX_OK) return st;
     if (!a->quiet) {

@@ -6,8 +6,19 @@
 #include <strings.h>
 
 #include "cli.h"
+#include "options.h"
 #include "helmix/log.h"
 #include "helmix/score.h"
+
+enum { O_JSON, O_PLOT, O_QUIET, O_HELP };
+
+static const hx_opt score_options[] = {
+    {"json", 0, "FILE", O_JSON, 0, "every number of the scorecard as JSON"},
+    {"plot", 0, "FILE.png|.pdf", O_PLOT, 0, "the scorecard page: errors per case, the worst shells, the ladder"},
+    {"quiet", 'q', NULL, O_QUIET, 0, "no progress lines"},
+    {"help", 'h', NULL, O_HELP, 0, "this text"},
+    {NULL, 0, NULL, 0, 0, NULL},
+};
 
 static void score_usage(FILE *out)
 {
@@ -29,13 +40,12 @@ static void score_usage(FILE *out)
             "          shell whose answer energy E_s = e_comp + e_sol is above 1e-12 of the largest\n"
             "  parts   rms(got - answer) / rms(field) <= tolerance.parts_rms_relative for each part, the\n"
             "          field being the sum of the answer's parts (the cube's field less its mean)\n\n"
-            "options:\n"
-            "  --json FILE             every number of the scorecard as JSON\n"
-            "  --plot FILE.png|.pdf    the scorecard page: errors per case, the worst shells, the ladder\n"
-            "  --quiet                 no progress lines\n\n"
-            "exit status: 0 every case passes, 1 a case fails, 2 bad input (an unreadable or malformed\n"
-            "manifest or RESULTS, a missing or unknown cube, an unknown variant, a non-number)\n",
+            "options:\n",
             HX_SCORE_SUITE_VERSION);
+    hx_opt_help(out, score_options);
+    fprintf(out, "\nexit status: 0 every case passes, 1 a case fails, 2 bad input (an unreadable or malformed\n"
+                 "manifest or RESULTS, a missing or unknown cube, an unknown variant, a non-number, an output\n"
+                 "that cannot be written or is one of the inputs)\n");
 }
 
 typedef struct score_args {
@@ -43,25 +53,29 @@ typedef struct score_args {
     int help, verbosity;
 } score_args;
 
+static hx_status score_option(void *ctx, const hx_opt *o, const char *v)
+{
+    score_args *a = ctx;
+    if (!o) {
+        if (!a->manifest) a->manifest = v;
+        else if (!a->results) a->results = v;
+        else return hx_error_set(HX_ERR_ARG, "more than two files given ('%s'); need MANIFEST RESULTS.json", v);
+        return HX_OK;
+    }
+    switch (o->id) {
+    case O_JSON: a->json = v; break;
+    case O_PLOT: a->plot = v; break;
+    case O_QUIET: a->verbosity = HX_LOG_QUIET; break;
+    default: a->help = 1; break;
+    }
+    return HX_OK;
+}
+
 static hx_status parse_args(int argc, char **argv, score_args *a)
 {
     a->verbosity = HX_LOG_INFO;
-    for (int i = 0; i < argc; i++) {
-        const char *s = argv[i];
-        if (!strcmp(s, "-h") || !strcmp(s, "--help")) a->help = 1;
-        else if (!strcmp(s, "--quiet") || !strcmp(s, "-q")) a->verbosity = HX_LOG_QUIET;
-        else if (!strncmp(s, "--json", 6) || !strncmp(s, "--plot", 6)) {
-            const char **dst = s[2] == 'j' ? &a->json : &a->plot;
-            if (s[6] == '=') *dst = s + 7;
-            else if (s[6]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix score --help)", s);
-            else if (i + 1 >= argc) return hx_error_set(HX_ERR_ARG, "option %s needs a value", s);
-            else *dst = argv[++i];
-        } else if (s[0] == '-' && s[1]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix score --help)", s);
-        else if (!a->manifest) a->manifest = s;
-        else if (!a->results) a->results = s;
-        else return hx_error_set(HX_ERR_ARG, "more than two files given ('%s'); need MANIFEST RESULTS.json", s);
-    }
-    if (a->help) return HX_OK;
+    hx_status st = hx_opt_parse("score", score_options, argc, argv, score_option, a);
+    if (st != HX_OK || a->help) return st;
     if (!a->results) return hx_error_set(HX_ERR_ARG, "need MANIFEST and RESULTS.json (helmix score --help)");
     if (a->plot) {
         const char *dot = strrchr(a->plot, '.');
@@ -75,7 +89,10 @@ static hx_status parse_args(int argc, char **argv, score_args *a)
 static hx_status score(const score_args *a, const hx_log *log, int *code)
 {
     hx_scorecard sc;
-    hx_status st = hx_score_files(a->manifest, a->results, log, &sc);
+    const hx_cli_file in[] = {{"MANIFEST", a->manifest}, {"RESULTS", a->results}};
+    const hx_cli_file out[] = {{"--json", a->json}, {"--plot", a->plot}};
+    hx_status st = hx_cli_check_files(in, 2, out, 2); /* before any reading: nothing written on a mistake */
+    if (st == HX_OK) st = hx_score_files(a->manifest, a->results, log, &sc);
     if (st != HX_OK) return st;
     hx_score_print(stdout, &sc);
     fflush(stdout);

@@ -3,10 +3,27 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "cli.h"
+#include "options.h"
 #include "helmix/log.h"
 #include "helmix/suite.h"
+
+enum { O_CELLS, O_RANKS_HINT, O_QUICK, O_FORCE, O_QUIET, O_VERBOSE, O_HELP };
+
+static const hx_opt suite_options[] = {
+    {"cells", 0, "N", O_CELLS, 0, "grid size: a multiple of 8, at least 16 (default 64; 32 with --quick)"},
+    {"ranks-hint", 0, "P", O_RANKS_HINT, 0,
+     "rank count the tools under test will use (default 4): the non-cubic cube\ngets a z size P does not divide "
+     "(P >= 3), so their slabs are uneven"},
+    {"quick", 0, NULL, O_QUICK, 0, "small cubes for tests (N = 32): the whole suite in a few seconds"},
+    {"force", 0, NULL, O_FORCE, 0, "replace an existing manifest and cubes in DIR"},
+    {"quiet", 'q', NULL, O_QUIET, 0, "no progress lines"},
+    {"verbose", 'v', NULL, O_VERBOSE, 0, "also the progress lines of the make runs inside"},
+    {"help", 'h', NULL, O_HELP, 0, "this text"},
+    {NULL, 0, NULL, 0, 0, NULL},
+};
 
 static void suite_usage(FILE *out)
 {
@@ -22,15 +39,8 @@ static void suite_usage(FILE *out)
             "and single precision; white noise; a resolution ladder N/4, N/2, N; a lognormal density with\n"
             "a mass-weighted share. Any number of ranks gives the same suite, bit for bit (sums over\n"
             "ranks are double-double); answers are taken on rank 0 alone.\n\n"
-            "options:\n"
-            "  --cells N          grid size: a multiple of 8, at least 16 (default 64; 32 with --quick)\n"
-            "  --ranks-hint P     rank count the tools under test will use (default 4): the non-cubic cube\n"
-            "                     gets a z size P does not divide (P >= 3), so their slabs are uneven\n"
-            "  --quick            small cubes for tests (N = 32): the whole suite in a few seconds\n"
-            "  --force            replace an existing manifest and cubes in DIR\n"
-            "  --quiet            no progress lines\n"
-            "  --verbose          also the progress lines of the make runs inside\n"
-            "  -h, --help         this text\n");
+            "options:\n");
+    hx_opt_help(out, suite_options);
 }
 
 /* A whole decimal number in [lo, hi]. */
@@ -44,46 +54,57 @@ static hx_status int_value(const char *opt, const char *text, int lo, int hi, in
     return HX_OK;
 }
 
-static hx_status parse_suite_args(int argc, char **argv, hx_suite_opts *o, int *help, int *verbosity)
+typedef struct suite_args {
+    hx_suite_opts o;
+    int help, verbosity;
+} suite_args;
+
+static hx_status suite_option(void *ctx, const hx_opt *opt, const char *v)
 {
-    for (int i = 0; i < argc; i++) {
-        const char *s = argv[i];
-        if (!strcmp(s, "-h") || !strcmp(s, "--help")) *help = 1;
-        else if (!strcmp(s, "--quick")) o->quick = 1;
-        else if (!strcmp(s, "--force")) o->force = 1;
-        else if (!strcmp(s, "--quiet") || !strcmp(s, "-q")) *verbosity = HX_LOG_QUIET;
-        else if (!strcmp(s, "--verbose") || !strcmp(s, "-v")) *verbosity = HX_LOG_DEBUG;
-        else if (!strncmp(s, "--cells", 7) || !strncmp(s, "--ranks-hint", 12)) {
-            int cells = s[2] == 'c';
-            size_t n = cells ? 7 : 12;
-            const char *val = NULL;
-            if (s[n] == '=') val = s + n + 1;
-            else if (s[n]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix suite --help)", s);
-            else if (i + 1 < argc) val = argv[++i];
-            else return hx_error_set(HX_ERR_ARG, "option %s needs a value", s);
-            hx_status st = cells ? int_value("--cells", val, 16, 4096, &o->cells) : int_value("--ranks-hint", val, 1, 1 << 20, &o->ranks_hint);
-            if (st != HX_OK) return st;
-        } else if (s[0] == '-' && s[1]) return hx_error_set(HX_ERR_ARG, "unknown option '%s' (see helmix suite --help)", s);
-        else if (o->dir) return hx_error_set(HX_ERR_ARG, "more than one directory given ('%s' and '%s')", o->dir, s);
-        else o->dir = s;
+    suite_args *a = ctx;
+    if (!opt) {
+        if (a->o.dir) return hx_error_set(HX_ERR_ARG, "more than one directory given ('%s' and '%s')", a->o.dir, v);
+        a->o.dir = v;
+        return HX_OK;
     }
-    if (!*help && !o->dir) return hx_error_set(HX_ERR_ARG, "no directory given (helmix suite DIR; see helmix suite --help)");
+    switch (opt->id) {
+    case O_CELLS: return int_value("--cells", v, 16, 4096, &a->o.cells);
+    case O_RANKS_HINT: return int_value("--ranks-hint", v, 1, 1 << 20, &a->o.ranks_hint);
+    case O_QUICK: a->o.quick = 1; break;
+    case O_FORCE: a->o.force = 1; break;
+    case O_QUIET: a->verbosity = HX_LOG_QUIET; break;
+    case O_VERBOSE: a->verbosity = HX_LOG_DEBUG; break;
+    default: a->help = 1; break;
+    }
     return HX_OK;
+}
+
+static hx_status parse_suite_args(int argc, char **argv, suite_args *a)
+{
+    hx_status st = hx_opt_parse("suite", suite_options, argc, argv, suite_option, a);
+    if (st == HX_OK && !a->help && !a->o.dir)
+        return hx_error_set(HX_ERR_ARG, "no directory given (helmix suite DIR; see helmix suite --help)");
+    if (st == HX_OK && !a->help) {
+        struct stat sb; /* the same file system on every rank: the same verdict */
+        if (stat(a->o.dir, &sb) == 0 && !S_ISDIR(sb.st_mode))
+            return hx_error_set(HX_ERR_ARG, "DIR %s: exists and is not a directory", a->o.dir);
+    }
+    return st;
 }
 
 int hx_cmd_suite(int argc, char **argv, MPI_Comm comm, int rank)
 {
-    hx_suite_opts o;
-    int help = 0, verbosity = HX_LOG_INFO;
-    memset(&o, 0, sizeof o);
-    o.ranks_hint = 4;
-    hx_status st = parse_suite_args(argc, argv, &o, &help, &verbosity);
-    if (st == HX_OK && help) {
+    suite_args a;
+    memset(&a, 0, sizeof a);
+    a.o.ranks_hint = 4;
+    a.verbosity = HX_LOG_INFO;
+    hx_status st = hx_error_agree(comm, parse_suite_args(argc, argv, &a));
+    if (st == HX_OK && a.help) {
         if (rank == 0) suite_usage(stdout);
         return HX_EXIT_OK;
     }
-    if (st != HX_OK) return hx_cli_fail(st, rank); /* the same arguments on every rank: the same verdict */
+    if (st != HX_OK) return hx_cli_fail(st, rank);
     hx_log log;
-    hx_log_init(&log, comm, verbosity, stderr);
-    return hx_cli_fail(hx_error_agree(comm, hx_suite_run(&o, &log, comm, NULL)), rank);
+    hx_log_init(&log, comm, a.verbosity, stderr);
+    return hx_cli_fail(hx_error_agree(comm, hx_suite_run(&a.o, &log, comm, NULL)), rank);
 }

@@ -10,6 +10,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "options.h"
 #include "helmix/error.h"
 #include "helmix/recipe.h"
 #include "helmix/version.h"
@@ -32,7 +33,10 @@ hx_status hx_cli_read_text(const char *path, char **text, size_t *size, MPI_Comm
     long len = -1;
     char *buf = NULL;
     if (MPI_Comm_rank(comm, &rank) != MPI_SUCCESS) return hx_error_set(HX_ERR_MPI, "MPI_Comm_rank failed");
-    if (rank == 0) {
+    hx_status checked = HX_OK;
+    const hx_cli_file in[] = {{"FILE", path}};
+    if (rank == 0 && (checked = hx_cli_check_files(in, 1, NULL, 0)) != HX_OK) len = -2; /* a directory reads as nothing */
+    else if (rank == 0) {
         FILE *fp = fopen(path, "rb");
         if (fp && fseek(fp, 0, SEEK_END) == 0 && (len = ftell(fp)) >= 0 && fseek(fp, 0, SEEK_SET) == 0 &&
             (buf = malloc((size_t)len + 1)) && fread(buf, 1, (size_t)len, fp) == (size_t)len)
@@ -45,6 +49,7 @@ hx_status hx_cli_read_text(const char *path, char **text, size_t *size, MPI_Comm
         if (fp) fclose(fp);
     }
     if (MPI_Bcast(&len, 1, MPI_LONG, 0, comm) != MPI_SUCCESS) return hx_error_set(HX_ERR_MPI, "MPI_Bcast failed");
+    if (len == -2 && rank == 0) return checked; /* the message says why; rank 0's wins when agreed */
     if (len < 0) return hx_error_set(HX_ERR_ARG, "%s: cannot read the file", path);
     if (rank != 0 && !(buf = malloc((size_t)len + 1))) return hx_error_set(HX_ERR_MEM, "out of memory reading %s", path);
     if (MPI_Bcast(buf, (int)len + 1, MPI_CHAR, 0, comm) != MPI_SUCCESS) {
@@ -69,11 +74,26 @@ static void usage(FILE *out)
             "  helmix plan RECIPE --ranks P [--mem-per-rank SIZE] [--json]   memory, file and work of a make run\n"
             "  helmix template            print an annotated recipe with every key\n"
             "  helmix make --help         options of make and the recipe keys\n"
-            "  helmix inspect --help      options of inspect\n"
+            "  helmix COMMAND --help      options of any other command\n"
             "  helmix --version\n\n"
+            "options: --name VALUE or --name=VALUE; a value is never taken from an argument that starts\n"
+            "with --, and \"--\" ends the options\n\n"
             "exit status: 0 success, 1 inspect --check found a difference, 2 bad input (recipe,\n"
             "options, files, existing output), 3 run-time failure\n",
             HX_VERSION);
+}
+
+/* template and version take no options but --help; an operand is refused by the parser's setter */
+static const hx_opt bare_options[] = {
+    {"help", 'h', NULL, 0, 0, "this text"},
+    {NULL, 0, NULL, 0, 0, NULL},
+};
+
+static hx_status bare_option(void *ctx, const hx_opt *o, const char *value)
+{
+    if (!o) return hx_error_set(HX_ERR_ARG, "unexpected argument '%s' (this command takes none)", value);
+    *(int *)ctx = 1;
+    return HX_OK;
 }
 
 int main(int argc, char **argv)
@@ -100,10 +120,17 @@ int main(int argc, char **argv)
         if (rank == 0) usage(cmd ? stdout : stderr);
         if (!cmd) st = HX_ERR_ARG;
         hx_error_clear();
-    } else if (!strcmp(cmd, "--version") || !strcmp(cmd, "version")) {
-        if (rank == 0) printf("helmix %s\n", HX_VERSION);
-    } else if (!strcmp(cmd, "template")) {
-        if (rank == 0) hx_recipe_template(stdout);
+    } else if (!strcmp(cmd, "--version") || !strcmp(cmd, "version") || !strcmp(cmd, "template")) {
+        int help = 0;
+        st = hx_opt_parse(cmd[0] == '-' ? "version" : cmd, bare_options, argc - 2, argv + 2, bare_option, &help);
+        if (st == HX_OK && rank == 0) {
+            if (help) printf("usage: helmix %s\n\n%s\n\noptions:\n", cmd[0] == '-' ? "--version" : cmd,
+                             cmd[0] == 't' ? "Print an annotated recipe with every key, its default, unit and meaning."
+                                           : "Print the version of helmix.");
+            if (help) hx_opt_help(stdout, bare_options);
+            else if (cmd[0] == 't') hx_recipe_template(stdout);
+            else printf("helmix %s\n", HX_VERSION);
+        }
     } else if (!strcmp(cmd, "make")) {
         code = hx_cmd_make(argc - 2, argv + 2, comm, rank);
     } else if (!strcmp(cmd, "inspect")) {
