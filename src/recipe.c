@@ -9,6 +9,7 @@
 
 #include <ctype.h>
 #include <errno.h>
+#include <float.h>
 #include <inttypes.h>
 #include <ini.h>
 #include <limits.h>
@@ -262,7 +263,8 @@ static const char *parse_value(const key *k, hx_recipe *r, const char *v)
     case K_PATH:
         if (!*v) return rule_of(k);
         if (strlen(v) >= HX_PATH_MAX) return "path must be shorter than 4096 characters";
-        strcpy((char *)dst, v);
+        memset(dst, 0, HX_PATH_MAX); /* no tail of a longer earlier value: equal recipes are equal bytes */
+        memcpy(dst, v, strlen(v));
         return NULL;
     case K_AXIS: {
         double d[3] = {0, 0, 0};
@@ -1054,24 +1056,27 @@ static int trim_copy(char *buf, size_t n, const char *s, size_t len)
 }
 
 /* Why a --set value could not stand in a recipe line (so the rendering would not read back
- * as the same recipe), or NULL. */
-static const char *unwritable(const char *v, char *why, size_t n)
+ * as the same recipe), or NULL; control characters and bad UTF-8 are refused before. */
+static const char *unwritable(const char *v)
 {
-    size_t len = strlen(v), step;
-    for (size_t i = 0; i < len; i += step) {
-        const char *bad = byte_fault(v, len, i, 1, &step, why, n);
-        if (bad) return bad == why ? why : (snprintf(why, n, "the value holds %s", bad), why);
-    }
-    if (cut_comment(v, len) < len) return "a '#' or ';' after a blank would start a comment in a recipe";
+    size_t len = strlen(v);
+    if (cut_comment(v, len) < len || *v == '#' || *v == ';')
+        return "a '#' or ';' at the start or after a blank would start a comment in a recipe";
     return NULL;
 }
 
 hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
 {
     const char *a = assignment ? assignment : "";
+    char why_buf[160];
+    size_t alen = strlen(a), step;
+    for (size_t i = 0; i < alen; i += step) { /* refused before it is echoed: a message is one line */
+        const char *bad = byte_fault(a, alen, i, 1, &step, why_buf, sizeof why_buf);
+        if (bad) return hx_error_set(HX_ERR_ARG, "--set: byte %zu of the assignment is %s", i + 1, bad);
+    }
     const char *eq = strchr(a, '=');
     const char *dot = eq ? memchr(a, '.', (size_t)(eq - a)) : NULL;
-    char sec[WORD_MAX], name[WORD_MAX], value[VALUE_MAX], hint[HINT_MAX], why_buf[160];
+    char sec[WORD_MAX], name[WORD_MAX], value[VALUE_MAX], hint[HINT_MAX];
     if (!dot || trim_copy(sec, sizeof sec, a, (size_t)(dot - a)) <= 0 ||
         trim_copy(name, sizeof name, dot + 1, (size_t)(eq - dot - 1)) <= 0)
         return hx_error_set(HX_ERR_ARG, "--set %.*s: expected section.key=value, e.g. --set mix.zeta=0.3",
@@ -1090,7 +1095,7 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment)
         return hx_error_set(HX_ERR_ARG, "--set %.*s...: the value is longer than %d characters", SHOW_MAX, a,
                             VALUE_MAX - 1);
     hx_recipe work = *r;
-    const char *why = unwritable(value, why_buf, sizeof why_buf);
+    const char *why = unwritable(value);
     if (!why) why = apply(k, &work, value, NULL);
     if (why) return hx_error_set(HX_ERR_ARG, "--set %.*s: %s", SHOW_MAX, a, why);
     int i = (int)(k - keys);
@@ -1400,7 +1405,8 @@ static hx_status check_magnetic(hx_recipe *r)
     int random = (!isnan(r->random_ratio) && r->random_ratio > 0) || (!isnan(r->random_rms.value) && r->random_rms.value > 0);
     double d = sqrt(r->direction[0] * r->direction[0] + r->direction[1] * r->direction[1] + r->direction[2] * r->direction[2]);
     if (!(d > 0) || !isfinite(d)) return invalid(r, "magnetic", "direction", "must not be zero or NaN");
-    for (int a = 0; a < 3; a++) r->direction[a] /= d;
+    if (fabs(d - 1.0) > 4 * DBL_EPSILON) /* a unit vector to round-off stays as it is: validation is idempotent */
+        for (int a = 0; a < 3; a++) r->direction[a] /= d;
     r->magnetic_by = given[0] ? HX_MAGNETIC_STRENGTH : given[1] ? HX_MAGNETIC_BETA : given[2] ? HX_MAGNETIC_ALFVEN
                      : random ? HX_MAGNETIC_RANDOM_ONLY : HX_MAGNETIC_NONE;
     if (!isnan(r->random_ratio) && r->random_ratio > 0 && (r->magnetic_by == HX_MAGNETIC_RANDOM_ONLY))
@@ -1508,7 +1514,11 @@ static void template_key(FILE *out, const key *k)
 void hx_recipe_template(FILE *out)
 {
     fputs("# helmix recipe template: every key with its meaning, allowed values, unit and default.\n"
-          "# \"key = value\" sets a key; lines starting with '#' or ';' are comments, and \" ;\" ends a value.\n"
+          "# \"key = value\" sets a key, once per recipe; each [section] appears once. Lines starting with\n"
+          "# '#' or ';' are comments, and a '#' or ';' after a blank starts one, so a value (a path) may hold\n"
+          "# '#' or ';' only inside a word: \"file = run#3.h5\" keeps its '#', \"file = run #3.h5\" is \"run\".\n"
+          "# Give one key of each set of alternatives (zeta or compressive_fraction, ...); --set section.key=value\n"
+          "# on the command line replaces the file's value, and the alternative the file gave.\n"
           "# A key left commented takes its default. Wavenumbers are in units of 2 pi / max(Lx, Ly, Lz).\n"
           "# [grid] cells has no default: it carries the sample value 64 so this file runs as it stands.\n\n",
           out);

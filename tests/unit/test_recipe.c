@@ -441,7 +441,9 @@ static void test_comments(void)
     CHECK(parse(&r, "[grid]\ncells = 8\n") == HX_OK);
     CHECK(hx_recipe_set(&r, "output.file=my run #3.h5") == HX_ERR_ARG);
     CHECK(!strcmp(hx_error_message(),
-                  "--set output.file=my run #3.h5: a '#' or ';' after a blank would start a comment in a recipe"));
+                  "--set output.file=my run #3.h5: a '#' or ';' at the start or after a blank would start a comment "
+                  "in a recipe"));
+    CHECK(hx_recipe_set(&r, "output.file=;x.h5") == HX_ERR_ARG);
     CHECK(hx_recipe_set(&r, "output.file=a\nb.h5") == HX_ERR_ARG);
     CHECK_STR_CONTAINS(hx_error_message(), "control character 0x0a");
     CHECK(hx_recipe_set(&r, "output.file=my_run#3.h5") == HX_OK && !strcmp(r.file, "my_run#3.h5"));
@@ -555,6 +557,17 @@ static void test_round_trip(void)
     CHECK(load(&r, "[grid]\ncells = 8\n") == HX_OK);
     snprintf(r.file, sizeof r.file, "%s", path);
     check_round_trip(&r, 1);
+    /* Found by fuzz_recipe: a direction normalised by validation is normalised again to the
+     * same bits (a unit vector to round-off is kept), so the validated rendering reads back. */
+    CHECK(load(&r, "[grid]\ncells = 8\n[magnetic]\nbeta = 1\ndirection = 1 0 2\n") == HX_OK);
+    CHECK_CLOSE(r.direction[2], 2 / sqrt(5.0), 1e-15);
+    check_round_trip(&r, 1);
+    again = r;
+    CHECK(hx_recipe_validate(&again) == HX_OK && same_recipe(&r, &again));
+    /* Found by fuzz_set: a --set path shorter than the one it replaces leaves no tail behind. */
+    CHECK(parse(&r, "[grid]\ncells = 8\n[output]\nfile = a_long_name.h5\n") == HX_OK);
+    CHECK(hx_recipe_set(&r, "output.file=b.h5") == HX_OK);
+    check_round_trip(&r, 0);
 }
 
 /* Spec: the template documents every key and, as printed, parses to a valid recipe (its
