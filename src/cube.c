@@ -7,6 +7,7 @@
 
 #include <hdf5.h>
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -348,20 +349,53 @@ hx_status hx_cube_read_plane(hx_cube *cu, int c, const hx_grid *g, int64_t z, do
     return read_planes(cu, c, g, z, g->nz > 0 ? 1 : 0, dst, g->n[0]);
 }
 
-/* A numeric attribute of exactly n values (integers are converted), into v. */
-static int read_doubles(hid_t obj, const char *name, double *v, int n)
+hx_status hx_cube_check_finite(const hx_cube *cu, int c, const hx_grid *g, const double *dst, int64_t stride)
 {
-    if (H5Aexists(obj, name) <= 0) return 0;
-    hid_t a = H5Aopen(obj, name, H5P_DEFAULT), sp = a >= 0 ? H5Aget_space(a) : -1, t = a >= 0 ? H5Aget_type(a) : -1;
-    int ok = sp >= 0 && t >= 0 && H5Sget_simple_extent_npoints(sp) == n &&
-             (H5Tget_class(t) == H5T_FLOAT || H5Tget_class(t) == H5T_INTEGER) && H5Aread(a, H5T_NATIVE_DOUBLE, v) >= 0;
-    if (t >= 0) H5Tclose(t);
-    if (sp >= 0) H5Sclose(sp);
-    if (a >= 0) H5Aclose(a);
-    return ok;
+    hx_status st = HX_OK;
+    const int64_t nx = g->n[0], ny = g->n[1], nz = g->n[2];
+    double bad[2] = {0, 0}; /* NaN, infinite: counts in double are exact below 2^53 */
+    int64_t first = INT64_MAX; /* the smallest linear index in the dataset's storage order */
+    for (int64_t z = 0; z < g->nz; z++)
+        for (int64_t y = 0; y < ny; y++) {
+            const double *row = dst + (z * ny + y) * stride;
+            for (int64_t x = 0; x < nx; x++) {
+                if (isfinite(row[x])) continue;
+                const int64_t k = g->z0 + z, at = cu->order == HX_ORDER_ZYX ? (k * ny + y) * nx + x : (x * ny + y) * nz + k;
+                bad[isnan(row[x]) ? 0 : 1] += 1;
+                if (at < first) first = at;
+            }
+        }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, bad, 2, MPI_DOUBLE, MPI_SUM, cu->comm));
+    if (bad[0] + bad[1] == 0) return HX_OK; /* the same exact sum on every rank */
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &first, 1, MPI_INT64_T, MPI_MIN, cu->comm));
+    int64_t i, j, k;
+    char index[96];
+    if (cu->order == HX_ORDER_ZYX) {
+        i = first % nx, j = first / nx % ny, k = first / (nx * ny);
+        snprintf(index, sizeof index, "[%lld][%lld][%lld]", (long long)k, (long long)j, (long long)i);
+    } else {
+        k = first % nz, j = first / nz % ny, i = first / (nz * ny);
+        snprintf(index, sizeof index, "[%lld][%lld][%lld]", (long long)i, (long long)j, (long long)k);
+    }
+    int v = vec_of(c), comp = c - (v >= 0 ? VEC_SLOT[v] : c);
+    char where[160];
+    if (v >= 0 && cu->four_d[v]) /* one 4-D dataset: the component axis first or last */
+        snprintf(where, sizeof where, "%s (component %d)", cu->name[c], comp);
+    else snprintf(where, sizeof where, "%s", cu->name[c]);
+    if (v >= 0 && cu->four_d[v]) {
+        char inner[96];
+        snprintf(inner, sizeof inner, "%s", index);
+        if (cu->comp_first[v]) snprintf(index, sizeof index, "[%d]%s", comp, inner);
+        else snprintf(index, sizeof index, "%s[%d]", inner, comp);
+    }
+    st = hx_error_set(HX_ERR_ARG,
+                      "%s in %s holds %.0f non-finite value%s (%.0f NaN, %.0f infinite); the first at cell (i, j, k) = "
+                      "(%lld, %lld, %lld), dataset index %s: inspect analyses finite data only",
+                      where, cu->path, bad[0] + bad[1], bad[0] + bad[1] > 1 ? "s" : "", bad[0], bad[1], (long long)i,
+                      (long long)j, (long long)k, index);
+fail:
+    return st;
 }
-
-static int read_double(hid_t obj, const char *name, double *v) { return read_doubles(obj, name, v, 1); }
 
 /* A string attribute, variable or fixed length, into buf. */
 static int read_string(hid_t obj, const char *name, char *buf, size_t len)
@@ -398,25 +432,190 @@ static int read_string(hid_t obj, const char *name, char *buf, size_t len)
     return ok;
 }
 
+/* ---- attributes, read strictly ----
+ * The /helmix and /helmix/state attributes of a helmix file are the request --check judges
+ * against. One that is present with the wrong type or count, or that is not a number where a
+ * number is required, is an error naming it, never a line quietly left out of the verdict. */
+
+typedef struct {
+    const hx_cube *cu;
+    const char *group;
+    hx_status st; /* the first problem found; its message is the error line */
+} attr_ctx;
+
+static void attr_bad(attr_ctx *A, const char *name, const char *what, const char *need)
+{
+    if (A->st != HX_OK) return;
+    A->st = hx_error_set(HX_ERR_ARG, "%s: attribute %s %s %s: need %s (a damaged file, or not one helmix wrote)",
+                         A->cu->path, A->group, name, what, need);
+}
+
+/* Whether attribute `name` exists, with its type class and number of values. */
+static int attr_info(hid_t obj, const char *name, H5T_class_t *cls, hssize_t *n)
+{
+    if (H5Aexists(obj, name) <= 0) return 0;
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT), sp = a >= 0 ? H5Aget_space(a) : -1, t = a >= 0 ? H5Aget_type(a) : -1;
+    *cls = t >= 0 ? H5Tget_class(t) : H5T_NO_CLASS;
+    *n = sp >= 0 ? H5Sget_simple_extent_npoints(sp) : -1;
+    if (t >= 0) H5Tclose(t);
+    if (sp >= 0) H5Sclose(sp);
+    if (a >= 0) H5Aclose(a);
+    return 1;
+}
+
+/* n numbers of attribute `name` into v (integers converted). Absent: 0, and an error when
+ * required; present with another type or count: an error. NaN is left to the caller. */
+static int attr_numbers(attr_ctx *A, hid_t obj, const char *name, double *v, int n, int required)
+{
+    H5T_class_t cls = H5T_NO_CLASS;
+    hssize_t cnt = 0;
+    char need[32], what[48];
+    snprintf(need, sizeof need, n == 1 ? "one number" : "%d numbers", n);
+    if (!attr_info(obj, name, &cls, &cnt)) {
+        if (required) attr_bad(A, name, "is missing", need);
+        return 0;
+    }
+    if (cls != H5T_FLOAT && cls != H5T_INTEGER) {
+        attr_bad(A, name, cls == H5T_STRING ? "is text" : "is not numeric", need);
+        return 0;
+    }
+    if (cnt != n) {
+        snprintf(what, sizeof what, "holds %lld values", (long long)cnt);
+        attr_bad(A, name, what, need);
+        return 0;
+    }
+    hid_t a = H5Aopen(obj, name, H5P_DEFAULT);
+    int ok = a >= 0 && H5Aread(a, H5T_NATIVE_DOUBLE, v) >= 0;
+    if (a >= 0) H5Aclose(a);
+    if (!ok) attr_bad(A, name, "cannot be read", need);
+    return ok;
+}
+
+/* One number in [lo, hi]; NaN stands for "not recorded" only where allow_nan. Returns 1 when
+ * *v was set (to a number in range, or to NaN where allowed). */
+static int attr_number(attr_ctx *A, hid_t obj, const char *name, double *v, int required, int allow_nan, double lo,
+                       double hi)
+{
+    double x = NAN;
+    char what[48], need[64];
+    if (!attr_numbers(A, obj, name, &x, 1, required)) return 0;
+    if (isnan(x) && allow_nan) {
+        *v = x;
+        return 1;
+    }
+    if (!isfinite(x)) {
+        attr_bad(A, name, isnan(x) ? "is NaN" : "is infinite", "a finite number");
+        return 0;
+    }
+    if (x < lo || x > hi) {
+        snprintf(what, sizeof what, "is %g", x);
+        if (isfinite(hi)) snprintf(need, sizeof need, "a number in [%g, %g]", lo, hi);
+        else snprintf(need, sizeof need, "a number >= %g", lo);
+        attr_bad(A, name, what, need);
+        return 0;
+    }
+    *v = x;
+    return 1;
+}
+
+/* A recorded number that may be NaN ("not asked", "not known"); NaN when absent. */
+static double attr_maybe(attr_ctx *A, hid_t obj, const char *name)
+{
+    double v = NAN;
+    attr_number(A, obj, name, &v, 0, 1, -INFINITY, INFINITY);
+    return v;
+}
+
+/* 1 when `word` is one of the comma-separated words of `list`. */
+static int word_in(const char *word, const char *list)
+{
+    size_t n = strlen(word);
+    for (const char *p = list; *p;) {
+        size_t k = strcspn(p, ",");
+        if (k == n && !strncmp(p, word, n)) return 1;
+        p += k;
+        while (*p == ',' || *p == ' ') p++;
+    }
+    return 0;
+}
+
+/* A text attribute into buf ("" when absent; an error when required). With `allowed`
+ * ("a, b, c") the text must be one of those words. */
+static int attr_text(attr_ctx *A, hid_t obj, const char *name, char *buf, size_t len, int required, const char *allowed)
+{
+    H5T_class_t cls = H5T_NO_CLASS;
+    hssize_t cnt = 0;
+    char need[96], what[96];
+    buf[0] = '\0';
+    snprintf(need, sizeof need, allowed ? "one of %s" : "%s", allowed ? allowed : "text");
+    if (!attr_info(obj, name, &cls, &cnt)) {
+        if (required) attr_bad(A, name, "is missing", need);
+        return 0;
+    }
+    if (cls != H5T_STRING || cnt != 1) {
+        if (cls == H5T_STRING) snprintf(what, sizeof what, "holds %lld strings", (long long)cnt);
+        else snprintf(what, sizeof what, "is %s", cls == H5T_FLOAT || cls == H5T_INTEGER ? "a number" : "not text");
+        attr_bad(A, name, what, need);
+        return 0;
+    }
+    if (!read_string(obj, name, buf, len)) {
+        attr_bad(A, name, "cannot be read", need);
+        return 0;
+    }
+    if (allowed && !word_in(buf, allowed)) {
+        snprintf(what, sizeof what, "is '%.40s'", buf);
+        attr_bad(A, name, what, need);
+        buf[0] = '\0';
+        return 0;
+    }
+    return 1;
+}
+
 hx_status hx_cube_request(hx_cube *cu, hx_request *q, int *found)
 {
-    char exact[32], shape[32], amps[32], of[32];
-    double target = NAN, realized = NAN, expected = NAN;
+    char text[32], exact[32], shape[32], amps[32], of[32], mode[32], weight[32];
+    double target = NAN, realized = NAN, expected = NAN, zeta = NAN, vrms = NAN, slope = NAN, fit = NAN, sigma = NAN;
+    double kmin = NAN, kmax = NAN;
     *found = 0;
     if (H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) <= 0) return HX_OK;
     hid_t g = H5Gopen2(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT);
     if (g < 0) return hx_error_set(HX_ERR_ARG, "cannot open " HX_SCHEMA_PROVENANCE " in %s", cu->path);
-    read_string(g, HX_ATTR_AMPLITUDES, amps, sizeof amps);
+    attr_ctx A = {cu, HX_SCHEMA_PROVENANCE, HX_OK};
+    /* what make always writes; the order is that of the checks a reader would make */
+    attr_text(&A, g, HX_ATTR_RECIPE, text, sizeof text, 1, NULL);
+    attr_text(&A, g, HX_ATTR_AMPLITUDES, amps, sizeof amps, 0, "gaussian, fixed");
+    attr_text(&A, g, HX_ATTR_MIX_MODE, mode, sizeof mode, 1, "zeta, compressive_fraction");
+    /* zeta is NaN in a file whose mix was asked as a compressive_fraction */
+    attr_number(&A, g, HX_ATTR_ZETA, &zeta, 1, strcmp(mode, "zeta") != 0, 0.0, 1.0);
+    attr_text(&A, g, HX_ATTR_EXACT, exact, sizeof exact, 1, "none, total, shell");
+    attr_text(&A, g, HX_ATTR_FRACTION_OF, of, sizeof of, 0, "synthesis, written");
+    attr_text(&A, g, HX_ATTR_WEIGHT, weight, sizeof weight, 0, "volume, mass");
+    attr_number(&A, g, HX_ATTR_FRACTION_EXPECTED, &expected, 1, 0, 0.0, 1.0);
+    /* the target is NaN when the share is free (exact = none) or judged as written */
+    attr_number(&A, g, HX_ATTR_FRACTION_TARGET, &target, 1, 1, 0.0, 1.0);
+    if (A.st == HX_OK && strcmp(exact, "none") && strcmp(of, "written") && isnan(target))
+        attr_bad(&A, HX_ATTR_FRACTION_TARGET, "is NaN", "a share in [0, 1] when exact is total or shell");
+    attr_number(&A, g, HX_ATTR_FRACTION_REALIZED, &realized, 1, 1, 0.0, 1.0);
+    if (attr_number(&A, g, HX_ATTR_VRMS, &vrms, 1, 0, 0.0, INFINITY) && !(vrms > 0))
+        attr_bad(&A, HX_ATTR_VRMS, "is 0", "a number > 0");
+    attr_text(&A, g, HX_ATTR_SHAPE, shape, sizeof shape, 1, "power, band, table");
+    /* the slope is a promise of a power law only */
+    attr_number(&A, g, HX_ATTR_SLOPE, &slope, 1, strcmp(shape, "power") != 0, -INFINITY, INFINITY);
+    attr_number(&A, g, HX_ATTR_SLOPE_FIT, &fit, 0, 1, -INFINITY, INFINITY);
+    attr_number(&A, g, HX_ATTR_SLOPE_SIGMA, &sigma, 0, 1, 0.0, INFINITY);
+    attr_number(&A, g, HX_ATTR_KMIN, &kmin, 1, 0, 0.0, INFINITY);
+    if (attr_number(&A, g, HX_ATTR_KMAX, &kmax, 1, 0, 0.0, INFINITY) && A.st == HX_OK && kmax < kmin)
+        attr_bad(&A, HX_ATTR_KMAX, "is below kmin", "kmax >= kmin");
+    H5Gclose(g);
+    if (A.st != HX_OK) return A.st;
+
     hx_request_defaults(q, cu->single, !strcmp(amps, "fixed"));
-    q->has_vrms = read_double(g, HX_ATTR_VRMS, &q->vrms);
+    q->has_vrms = 1;
+    q->vrms = vrms;
     /* a field shaped after the synthesis (window, bulk removal, weighting) keeps no zero mean */
-    read_string(g, HX_ATTR_FRACTION_OF, of, sizeof of);
     q->zero_mean = strcmp(of, "written") != 0;
-    read_string(g, HX_ATTR_EXACT, exact, sizeof exact);
-    read_double(g, HX_ATTR_FRACTION_TARGET, &target);
-    read_double(g, HX_ATTR_FRACTION_REALIZED, &realized);
-    if (read_double(g, HX_ATTR_FRACTION_EXPECTED, &expected)) q->expected_fraction = expected;
-    if ((!strcmp(exact, "total") || !strcmp(exact, "shell")) && isfinite(target)) {
+    q->expected_fraction = expected;
+    if (strcmp(exact, "none") && isfinite(target)) {
         q->has_fraction = 1;
         q->fraction = target;
         q->has_shell_fraction = !strcmp(exact, "shell");
@@ -424,30 +623,20 @@ hx_status hx_cube_request(hx_cube *cu, hx_request *q, int *found)
         q->has_recorded = 1;
         q->recorded_fraction = realized;
     }
-    read_string(g, HX_ATTR_SHAPE, shape, sizeof shape);
-    if (!strcmp(shape, "power")) q->has_slope = read_double(g, HX_ATTR_SLOPE, &q->slope);
-    double fit = NAN, sigma = NAN;
-    read_double(g, HX_ATTR_SLOPE_FIT, &fit);
-    read_double(g, HX_ATTR_SLOPE_SIGMA, &sigma);
+    if (!strcmp(shape, "power")) {
+        q->has_slope = 1;
+        q->slope = q->slope_recipe = slope;
+    }
     if (q->has_slope && isfinite(fit) && isfinite(sigma)) {
         /* judge the fit against what it should give on this grid and band, within 5 sigma of
          * its scatter for this draw (make computes both from its own mode set) */
-        q->slope_recipe = q->slope;
         q->slope = fit;
         q->tol_slope = fmax(5.0 * sigma, 0.01);
     }
-    read_double(g, HX_ATTR_KMIN, &q->fit_kmin);
-    read_double(g, HX_ATTR_KMAX, &q->fit_kmax);
-    H5Gclose(g);
+    q->fit_kmin = kmin;
+    q->fit_kmax = kmax;
     *found = 1;
     return HX_OK;
-}
-
-/* A number that may be absent: NAN then. */
-static double maybe(hid_t g, const char *name)
-{
-    double v = NAN;
-    return read_double(g, name, &v) ? v : NAN;
 }
 
 /* The value of /dataset_units/NAME when its "unit" attribute says `unit`, else NAN. */
@@ -486,58 +675,63 @@ hx_status hx_cube_read_state(hx_cube *cu, hx_cube_state *s)
     if (H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) > 0) {
         hid_t p = H5Gopen2(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT);
         if (p < 0) return hx_error_set(HX_ERR_ARG, "cannot open " HX_SCHEMA_PROVENANCE " in %s", cu->path);
-        if (read_string(p, HX_ATTR_WEIGHT, text, sizeof text)) s->mass_weight = !strcmp(text, "mass");
-        if (read_string(p, HX_ATTR_FRACTION_OF, text, sizeof text)) s->written = !strcmp(text, "written");
+        attr_ctx P = {cu, HX_SCHEMA_PROVENANCE, HX_OK};
+        if (attr_text(&P, p, HX_ATTR_WEIGHT, text, sizeof text, 0, "volume, mass")) s->mass_weight = !strcmp(text, "mass");
+        if (attr_text(&P, p, HX_ATTR_FRACTION_OF, text, sizeof text, 0, "synthesis, written"))
+            s->written = !strcmp(text, "written");
         H5Gclose(p);
+        if (P.st != HX_OK) return P.st;
     }
     if (H5Lexists(cu->file, HX_SCHEMA_PROVENANCE, H5P_DEFAULT) <= 0 ||
         H5Lexists(cu->file, HX_SCHEMA_STATE, H5P_DEFAULT) <= 0)
         return HX_OK;
     hid_t g = H5Gopen2(cu->file, HX_SCHEMA_STATE, H5P_DEFAULT);
     if (g < 0) return hx_error_set(HX_ERR_ARG, "cannot open " HX_SCHEMA_STATE " in %s", cu->path);
+    attr_ctx A = {cu, HX_SCHEMA_STATE, HX_OK};
     s->found = 1;
-    read_string(g, HX_STATE_AMPLITUDE_BY, s->amplitude_by, sizeof s->amplitude_by);
-    read_string(g, HX_STATE_DENSITY_MODEL, s->density_model, sizeof s->density_model);
-    s->sound_speed = maybe(g, HX_STATE_SOUND_SPEED);
-    s->G = maybe(g, HX_STATE_G);
-    s->vrms_asked = maybe(g, HX_STATE_VRMS_ASKED);
-    s->mach_asked = maybe(g, HX_STATE_MACH_ASKED);
-    s->virial_asked = maybe(g, HX_STATE_VIRIAL_ASKED);
-    s->sigma_3d_asked = maybe(g, HX_STATE_SIGMA_3D_ASKED);
-    s->sigma_s_asked = maybe(g, HX_STATE_SIGMA_S_ASKED);
-    s->vrms = maybe(g, HX_STATE_VRMS);
-    s->sigma_3d = maybe(g, HX_STATE_SIGMA_3D);
-    s->mach = maybe(g, HX_STATE_MACH);
-    s->virial = maybe(g, HX_STATE_VIRIAL);
-    s->momentum_rel = maybe(g, HX_STATE_MOMENTUM_RELATIVE);
-    s->density_mean = maybe(g, HX_STATE_DENSITY_MEAN);
-    s->sigma_s = maybe(g, HX_STATE_SIGMA_S);
-    s->region_mass = maybe(g, HX_STATE_REGION_MASS);
-    s->gamma = maybe(g, HX_STATE_GAMMA);
-    if (!read_doubles(g, HX_STATE_MAGNETIC_B0, s->b0, 3))
+    attr_text(&A, g, HX_STATE_AMPLITUDE_BY, s->amplitude_by, sizeof s->amplitude_by, 0, NULL);
+    attr_text(&A, g, HX_STATE_DENSITY_MODEL, s->density_model, sizeof s->density_model, 0, NULL);
+    s->sound_speed = attr_maybe(&A, g, HX_STATE_SOUND_SPEED);
+    s->G = attr_maybe(&A, g, HX_STATE_G);
+    s->vrms_asked = attr_maybe(&A, g, HX_STATE_VRMS_ASKED);
+    s->mach_asked = attr_maybe(&A, g, HX_STATE_MACH_ASKED);
+    s->virial_asked = attr_maybe(&A, g, HX_STATE_VIRIAL_ASKED);
+    s->sigma_3d_asked = attr_maybe(&A, g, HX_STATE_SIGMA_3D_ASKED);
+    s->sigma_s_asked = attr_maybe(&A, g, HX_STATE_SIGMA_S_ASKED);
+    s->vrms = attr_maybe(&A, g, HX_STATE_VRMS);
+    s->sigma_3d = attr_maybe(&A, g, HX_STATE_SIGMA_3D);
+    s->mach = attr_maybe(&A, g, HX_STATE_MACH);
+    s->virial = attr_maybe(&A, g, HX_STATE_VIRIAL);
+    s->momentum_rel = attr_maybe(&A, g, HX_STATE_MOMENTUM_RELATIVE);
+    s->density_mean = attr_maybe(&A, g, HX_STATE_DENSITY_MEAN);
+    s->sigma_s = attr_maybe(&A, g, HX_STATE_SIGMA_S);
+    s->region_mass = attr_maybe(&A, g, HX_STATE_REGION_MASS);
+    s->gamma = attr_maybe(&A, g, HX_STATE_GAMMA);
+    if (!attr_numbers(&A, g, HX_STATE_MAGNETIC_B0, s->b0, 3, 0))
         for (int a = 0; a < 3; a++) s->b0[a] = NAN;
-    s->b_random_rms = maybe(g, HX_STATE_MAGNETIC_RANDOM_RMS);
-    s->b_rms = maybe(g, HX_STATE_MAGNETIC_RMS);
-    s->b_face_rms = maybe(g, HX_STATE_MAGNETIC_FACE_RMS);
-    s->beta = maybe(g, HX_STATE_BETA);
-    s->alfven_mach = maybe(g, HX_STATE_ALFVEN_MACH);
-    s->beta_asked = maybe(g, HX_STATE_BETA_ASKED);
-    s->alfven_mach_asked = maybe(g, HX_STATE_ALFVEN_MACH_ASKED);
-    if (!isfinite(s->unit_magnetic_gauss)) s->unit_magnetic_gauss = maybe(g, HX_STATE_UNIT_MAGNETIC);
+    s->b_random_rms = attr_maybe(&A, g, HX_STATE_MAGNETIC_RANDOM_RMS);
+    s->b_rms = attr_maybe(&A, g, HX_STATE_MAGNETIC_RMS);
+    s->b_face_rms = attr_maybe(&A, g, HX_STATE_MAGNETIC_FACE_RMS);
+    s->beta = attr_maybe(&A, g, HX_STATE_BETA);
+    s->alfven_mach = attr_maybe(&A, g, HX_STATE_ALFVEN_MACH);
+    s->beta_asked = attr_maybe(&A, g, HX_STATE_BETA_ASKED);
+    s->alfven_mach_asked = attr_maybe(&A, g, HX_STATE_ALFVEN_MACH_ASKED);
+    if (!isfinite(s->unit_magnetic_gauss)) s->unit_magnetic_gauss = attr_maybe(&A, g, HX_STATE_UNIT_MAGNETIC);
     double m[3], flags[3], cloud = 0, center[3], radius = NAN;
-    if (read_doubles(g, HX_STATE_MOMENTUM, m, 3)) memcpy(s->momentum, m, sizeof m);
-    if (read_doubles(g, HX_STATE_FLAGS, flags, 3))
+    if (attr_numbers(&A, g, HX_STATE_MOMENTUM, m, 3, 0)) memcpy(s->momentum, m, sizeof m);
+    if (attr_numbers(&A, g, HX_STATE_FLAGS, flags, 3, 0))
         for (int a = 0; a < 3; a++) s->flags[a] = flags[a] != 0;
     /* the region: the recorded sphere when there is a cloud, else the whole box */
-    if (read_double(g, HX_STATE_CLOUD, &cloud) && cloud != 0 && read_doubles(g, HX_STATE_CLOUD_CENTER, center, 3) &&
-        read_double(g, HX_STATE_CLOUD_RADIUS, &radius) && radius > 0) {
+    radius = attr_maybe(&A, g, HX_STATE_CLOUD_RADIUS);
+    if (attr_number(&A, g, HX_STATE_CLOUD, &cloud, 0, 1, -INFINITY, INFINITY) && cloud != 0 && !isnan(cloud) &&
+        attr_numbers(&A, g, HX_STATE_CLOUD_CENTER, center, 3, 1) && radius > 0) {
         s->cloud = 1;
         memcpy(s->center, center, sizeof center);
         s->radius = radius;
-    } else if (read_double(g, HX_STATE_CLOUD_RADIUS, &radius) && radius > 0)
+    } else if (radius > 0)
         s->radius = radius;
     H5Gclose(g);
-    return HX_OK;
+    return A.st;
 }
 
 /* The asked value where one was asked, else the recorded one. */

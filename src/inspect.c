@@ -331,12 +331,13 @@ static void teardown(work_t *W)
 }
 
 /* Collective: read slot c of this rank's slab into dst (rows `stride` apart), timed as "read"
- * with the bytes the file gave; agreed. */
+ * with the bytes the file gave; agreed. NaN or infinite values are refused (exit 2: bad input). */
 static hx_status read_slot(work_t *W, hx_cube *cube, int c, double *dst, int64_t stride)
 {
     double b0 = hx_cube_bytes_read(cube);
     hx_timer_begin(W->T, "read");
     hx_status st = hx_error_agree(W->comm, hx_cube_read(cube, c, &W->g, dst, stride));
+    if (st == HX_OK) st = hx_cube_check_finite(cube, c, &W->g, dst, stride); /* NaN would pass as a result */
     hx_timer_end(W->T, "read", hx_cube_bytes_read(cube) - b0, 0);
     return st;
 }

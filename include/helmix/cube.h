@@ -78,6 +78,13 @@ int hx_cube_field_single(const hx_cube *cube, int slot);
  * of Nx values `stride` doubles apart (stride 2*(Nx/2+1) for in-place r2c). */
 hx_status hx_cube_read(hx_cube *cube, int c, const hx_grid *g, double *dst, int64_t stride);
 
+/* Collective: refuse values inspect cannot analyse. dst holds what hx_cube_read put there for
+ * slot c (this rank's z slab of g, rows `stride` apart). HX_ERR_ARG on every rank when any rank
+ * holds NaN or an infinity, with the dataset, the count (NaN and infinite) and the first such
+ * value in the dataset's own storage order: its cell (i, j, k) along (x, y, z) and its index in
+ * the dataset. One reduction; every rank returns the same status. */
+hx_status hx_cube_check_finite(const hx_cube *cube, int c, const hx_grid *g, const double *dst, int64_t stride);
+
 /* Collective: read the single z plane `z` (global index) of slot c into dst (Ny rows of Nx
  * values, x fastest) on every rank that owns planes of g; a rank without planes reads nothing
  * but takes part. Each rank may ask for a different plane (the neighbour of its slab). */
@@ -94,11 +101,17 @@ int hx_cube_has_density(const hx_cube *cube);
  * is open. */
 int hx_cube_has_field(const hx_cube *cube, int slot);
 
-/* Collective: the request stored in a helmix file's /helmix group (found = 0 if none). */
+/* Collective: the request stored in a helmix file's /helmix group (found = 0 if none). Every
+ * attribute of the request is checked: the recipe, mix_mode, zeta, exact, vrms, the
+ * spectrum's shape, slope, kmin and kmax must be present, and each one present must have its
+ * type and count, a number where one is required (NaN only where make writes NaN: zeta of a
+ * compressive_fraction mix, the target of free draws, the slope of a non-power shape) and a
+ * known word where a word is; HX_ERR_ARG naming the first attribute that is not. */
 hx_status hx_cube_request(hx_cube *cube, hx_request *q, int *found);
 
 /* Collective: the state a helmix file records (s->found = 0 and NANs if it has none; the
- * region then defaults to the whole box). HX_ERR_ARG if /helmix/state cannot be opened. */
+ * region then defaults to the whole box). HX_ERR_ARG if /helmix/state cannot be opened or an
+ * attribute present in it has the wrong type or count (NaN stands for "not recorded"). */
 hx_status hx_cube_read_state(hx_cube *cube, hx_cube_state *s);
 
 /* What --check judges of the state: the asked value where one was asked, else the recorded

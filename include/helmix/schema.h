@@ -28,6 +28,9 @@
 
 /* attributes of /helmix that inspect reads back */
 #define HX_ATTR_VRMS "vrms"
+#define HX_ATTR_RECIPE "recipe"     /* the recipe as run: its presence marks a helmix file */
+#define HX_ATTR_MIX_MODE "mix_mode" /* "zeta" or "compressive_fraction"                   */
+#define HX_ATTR_ZETA "zeta"         /* NAN when the mix was asked as a compressive_fraction */
 #define HX_ATTR_COMPUTE "compute_precision" /* precision of the synthesis: single or double */
 #define HX_ATTR_EXACT "exact"
 #define HX_ATTR_AMPLITUDES "amplitudes"
