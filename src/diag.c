@@ -183,6 +183,22 @@ void hx_diag_fit_shells(const double *e, const double *modes, const double *relv
     *sigma = sqrt(v) / vx;
 }
 
+int hx_diag_fit_count(const hx_diag *d, double kmin, double kmax, int *first, int *last)
+{
+    double total = 0;
+    int n = 0;
+    *first = *last = 0;
+    for (int s = 0; s < d->nshell; s++) total += d->shell_e[s] > 0 ? d->shell_e[s] : 0;
+    const double floor_e = 1e-28 * total; /* the floor of hx_diag_fit_shells */
+    for (int s = 1; s < d->nshell; s++) {
+        if (!(d->shell_e[s] > floor_e && d->shell_modes[s] > 0)) continue;
+        if (!*first) *first = s;
+        *last = s;
+        n += fit_shell(d->shell_e, d->shell_modes, floor_e, s, kmin, kmax);
+    }
+    return n;
+}
+
 void hx_diag_fit_slope(const hx_diag *d, double kmin, double kmax, double *slope, double *err)
 {
     hx_diag_fit_shells(d->shell_e, d->shell_modes, NULL, d->nshell, kmin, kmax, slope, err, NULL);

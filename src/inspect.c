@@ -467,6 +467,25 @@ static void default_fit(hx_diag *d, const hx_inspect_opts *o, const hx_request *
     else d->fit_kmin = 2, d->fit_kmax = (double)(nmin / 4);
 }
 
+/* --fit must name shells the cube holds, three or more of them carrying energy (a slope and its
+ * standard error need three): otherwise the fit would print NaN. Decided from the reduced shell
+ * sums, after the velocity's analysis. */
+static hx_status check_fit(const hx_inspect_opts *o, const hx_diag *d)
+{
+    const double lo = o->fit[0], hi = o->fit[1];
+    int top = 0, first = 0, last = 0;
+    if (!(hi > 0)) return HX_OK; /* no --fit: the recorded band or the default */
+    if (!(lo >= 1 && hi > lo)) return hx_error_set(HX_ERR_ARG, "--fit %g,%g: need 1 <= KMIN < KMAX (shells)", lo, hi);
+    for (int s = 1; s < d->nshell; s++)
+        if (d->shell_modes[s] > 0) top = s;
+    if (hi > top) return hx_error_set(HX_ERR_ARG, "--fit %g,%g: the shells of %s run from 1 to %d", lo, hi, o->cube.file, top);
+    int n = hx_diag_fit_count(d, lo, hi, &first, &last);
+    if (n >= 3) return HX_OK;
+    if (!first) return hx_error_set(HX_ERR_ARG, "--fit %g,%g: %s holds no energy in any shell: there is no slope to fit", lo, hi, o->cube.file);
+    return hx_error_set(HX_ERR_ARG, "--fit %g,%g: %d shell%s in that range carr%s energy in %s (shells %d to %d do): a slope "
+                        "and its error need 3", lo, hi, n, n == 1 ? "" : "s", n == 1 ? "ies" : "y", o->cube.file, first, last);
+}
+
 /* Zero the accumulators of a pass: slab B, the Nyquist partners, the planes, the gradient sums. */
 static void clear_sums(work_t *W)
 {
@@ -687,6 +706,7 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     if (W.rho) HX_TRY(read_density(&W, cube));
     W.f = (field_t){HX_SLOT_VELOCITY, W.rho != NULL, weight, o->remove_scale, o->slices, "velocity"};
     HX_TRY(analyse_field(&W, cube, log, d));
+    HX_TRY(hx_error_agree(comm, check_fit(o, d)));
     hx_timer_begin(W.T, "finish");
     default_fit(d, o, q, *found);
     hx_diag_finish(d);

@@ -176,6 +176,11 @@ void hx_diag_finish(hx_diag *d);
 void hx_diag_fit_shells(const double *e, const double *modes, const double *relvar, int nshell, double kmin, double kmax,
                         double *slope, double *err, double *sigma);
 
+/* The number of shells the fit over [kmin, kmax] would use (with modes and energy above the
+ * round-off floor of hx_diag_fit_shells); *first and *last: the lowest and highest shell that
+ * carry energy anywhere (0 when none). Not collective. */
+int hx_diag_fit_count(const hx_diag *d, double kmin, double kmax, int *first, int *last);
+
 /* Least-squares fit of log(shell_e[s] 4 pi s^2 / modes[s]) against log s over shells
  * kmin <= s <= kmax with power; *slope is minus the fitted exponent and *err its standard
  * error. NAN when fewer than three shells qualify. */
