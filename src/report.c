@@ -163,7 +163,9 @@ static cJSON *verdict(const hx_verdict *v)
         const hx_verdict_line *l = &v->line[i];
         cJSON *e = cJSON_CreateObject();
         cJSON_AddStringToObject(e, "quantity", l->quantity);
-        cJSON_AddNumberToObject(e, "requested", l->requested);
+        cJSON_AddNumberToObject(e, "asked", l->asked); /* NaN (nothing asked) prints as null */
+        cJSON_AddNumberToObject(e, "target", l->target);
+        cJSON_AddStringToObject(e, "target_is", l->basis);
         cJSON_AddNumberToObject(e, "measured", l->measured);
         cJSON_AddNumberToObject(e, "tolerance", l->tolerance); /* NaN (information only) prints as null */
         if (isnan(l->tolerance)) cJSON_AddNullToObject(e, "passed");

@@ -1,9 +1,13 @@
-/* helmix/verdict.h — requested versus measured: the table behind `helmix inspect --check`.
+/* helmix/verdict.h — asked, target and measured: the table behind `helmix inspect --check`.
  *
  * A request comes from the /helmix group of a helmix file (what make was asked and what it
- * recorded) or from --expect on the command line; each quantity carries the tolerance it is
- * judged with, chosen from the precision of the data and, for statistical quantities, from
- * the scatter a Gaussian draw allows. Pure functions, not collective. */
+ * recorded) or from --expect on the command line. Each line keeps apart what was asked (the
+ * recipe or --expect; nothing for a derived line such as the zero mean), the target the
+ * measured value is held to (the asked value, or what follows from it for this file: the share
+ * this draw holds, the slope the compensated fit gives on this grid and band, the state as
+ * make measured it) and the tolerance, chosen from the precision of the data and, for
+ * statistical quantities, from the scatter a Gaussian draw allows. Pure functions, not
+ * collective. */
 #ifndef HELMIX_VERDICT_H
 #define HELMIX_VERDICT_H
 
@@ -15,9 +19,10 @@ typedef struct hx_request {
     int has_vrms, has_fraction, has_slope, has_shell_fraction, has_recorded;
     double vrms, fraction, slope;   /* requested values; for helmix files slope is what the
                                      * compensated fit should give on that grid and band     */
-    double slope_recipe;            /* the recipe's slope, reported for information (NAN: none) */
+    double slope_recipe;            /* the recipe's slope, shown as asked (NAN: none)      */
     double recorded_fraction;       /* share make says it wrote (free draws)              */
-    double expected_fraction;       /* ensemble expectation, reported for information     */
+    double expected_fraction;       /* the share asked of the ensemble (for zeta, (1-zeta)^2 /
+                                     * (1-2 zeta+3 zeta^2)), shown as asked (NAN: none)  */
     double tol_vrms, tol_fraction, tol_slope; /* vrms tolerance is relative; NAN: the line
                                                * is information only                      */
     double fit_kmin, fit_kmax;      /* band of the request, for the slope fit (0: none)    */
@@ -47,7 +52,11 @@ typedef struct hx_request {
 
 typedef struct hx_verdict_line {
     char quantity[48];
-    double requested, measured, tolerance; /* tolerance NAN: information only, no verdict */
+    double asked;      /* what the recipe or --expect asked of it; NAN: nothing (a derived line) */
+    double target;     /* what the measured value is held to                                   */
+    double measured, tolerance; /* tolerance NAN: information only, no verdict                */
+    char basis[32];    /* where the target comes from: "asked", "this draw", "fit on this grid",
+                        * "as made", "as written", "zero-mean synthesis", ...                    */
     int passed;
 } hx_verdict_line;
 
@@ -68,7 +77,8 @@ hx_status hx_request_parse(hx_request *q, const char *text, int tolerances, cons
  * magnetic field analysed in d. */
 void hx_verdict_judge(const hx_request *q, const hx_diag *d, hx_verdict *v);
 
-/* Print the requested-vs-measured table with PASS/FAIL per line and the overall verdict. */
+/* Print the table (check, asked, target, measured, tolerance, verdict, target is) with
+ * PASS/FAIL per line ("-" where nothing was asked) and the overall verdict. */
 void hx_verdict_print(const hx_verdict *v, FILE *out);
 
 #endif

@@ -517,7 +517,7 @@ def read_png(path):
 # the verdict block of `inspect --check --json`
 # ----------------------------------------------------------------------------
 
-SRC_RULE = "verdict rule: |measured - requested| <= tolerance (helmix specification)"
+SRC_RULE = "verdict rule: |measured - target| <= tolerance (helmix specification)"
 
 
 def verdict_lines(c, label, run):
@@ -528,7 +528,7 @@ def verdict_lines(c, label, run):
         return {}
     lines = js["check"]["lines"]
     bad = [ln["quantity"] for ln in lines if ln["tolerance"] is not None and
-           ln["passed"] is not (abs(ln["measured"] - ln["requested"]) <= ln["tolerance"])]
+           ln["passed"] is not (abs(ln["measured"] - ln["target"]) <= ln["tolerance"])]
     judged = all(ln["passed"] for ln in lines if ln["tolerance"] is not None)
     c.check(f"[{label}] check lines follow the rule and the exit code", not bad and
             (run.rc == 0) == judged and js["check"]["passed"] is judged, f"bad={bad} rc={run.rc}", SRC_RULE)

@@ -79,7 +79,7 @@ def key_problems(js, with_check):
     if with_check:
         chk = js.get("check")
         if not (isinstance(chk, dict) and set(chk) == {"passed", "lines"} and isinstance(chk["lines"], list)
-                and all(set(ln) == {"quantity", "requested", "measured", "tolerance", "passed"}
+                and all(set(ln) == {"quantity", "asked", "target", "target_is", "measured", "tolerance", "passed"}
                         for ln in chk["lines"])):
             bad.append(f"check block {chk!r:.200}")
     elif "check" in js:

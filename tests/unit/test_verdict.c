@@ -1,4 +1,4 @@
-/* test_verdict.c — requested versus measured: each line passes inside its tolerance and
+/* test_verdict.c — asked, target and measured: each line passes inside its tolerance and
  * fails outside it, information lines never fail, the state in a density and the magnetic
  * field are judged against the asked or recorded values, and --expect/--tolerance text is
  * parsed or refused with a clear message. */
@@ -47,13 +47,65 @@ static void test_judge(void)
     d = cube(0.3, 2.0, NAN); /* no slope measured: a request cannot pass on NaN */
     hx_verdict_judge(&q, &d, &v);
     CHECK(!v.passed);
-    /* free draws: judged against the recorded share, the ensemble value is information only */
+    /* free draws: one line, the share asked of the ensemble as asked, the share this draw
+     * holds as the target (issue 9: what was asked apart from what is derived) */
     hx_request_defaults(&q, 0, 0);
     q.has_recorded = 1, q.recorded_fraction = 0.2526;
     q.expected_fraction = 1.0 / 3.0;
     d = cube(0.2526, 1.0, 2.0);
     hx_verdict_judge(&q, &d, &v);
-    CHECK(v.passed && v.n == 2 && isnan(v.line[1].tolerance));
+    CHECK(v.passed && v.n == 1 && !strcmp(v.line[0].quantity, "compressive share as drawn"));
+    CHECK(v.line[0].asked == 1.0 / 3.0 && v.line[0].target == 0.2526 && !strcmp(v.line[0].basis, "this draw"));
+    d = cube(0.2527, 1.0, 2.0); /* the target, not the ensemble value, decides */
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(!v.passed);
+}
+
+/* A helmix file that asked slope 2: the table shows 2 as asked and the fit expected on this grid
+ * as the target; the zero mean is derived (nothing asked: "-"). */
+static void test_asked_target(void)
+{
+    hx_request q;
+    hx_verdict v;
+    hx_request_defaults(&q, 0, 0);
+    q.has_vrms = 1, q.vrms = 1.0;
+    q.has_slope = 1, q.slope_recipe = 2.0, q.slope = 1.914, q.tol_slope = 0.05;
+    hx_diag d = cube(0.3, 1.0, 1.93);
+    hx_verdict_judge(&q, &d, &v);
+    int found = 0;
+    for (int i = 0; i < v.n; i++) {
+        const hx_verdict_line *l = &v.line[i];
+        if (!strcmp(l->quantity, "spectral slope")) {
+            found++;
+            CHECK(l->asked == 2.0 && l->target == 1.914 && l->passed && !strcmp(l->basis, "fit on this grid"));
+        }
+        if (!strcmp(l->quantity, "largest mean component")) {
+            found++;
+            CHECK(isnan(l->asked) && l->target == 0.0);
+        }
+    }
+    CHECK(found == 2 && v.passed);
+    /* the printed table: its header names the columns, the slope row shows 2 then 1.914 */
+    char buf[4096] = {0};
+    FILE *fp = fmemopen(buf, sizeof buf - 1, "w");
+    CHECK(fp != NULL);
+    if (!fp) return;
+    hx_verdict_print(&v, fp);
+    fclose(fp);
+    CHECK_STR_CONTAINS(buf, "asked");
+    CHECK_STR_CONTAINS(buf, "target");
+    CHECK(strstr(buf, "requested") == NULL);
+    const char *row = strstr(buf, "spectral slope");
+    double asked = 0, target = 0;
+    CHECK(row && sscanf(row + strlen("spectral slope"), "%lf %lf", &asked, &target) == 2 && asked == 2.0 && target == 1.914);
+    row = strstr(buf, "largest mean component");
+    char dash[8] = {0};
+    CHECK(row && sscanf(row + strlen("largest mean component"), "%7s", dash) == 1 && !strcmp(dash, "-"));
+    /* --expect: asked and target are the same number */
+    hx_request_defaults(&q, 0, 0);
+    CHECK(hx_request_parse(&q, "slope=2", 0, "--expect") == HX_OK);
+    hx_verdict_judge(&q, &d, &v);
+    CHECK(v.n == 1 && v.line[0].asked == 2.0 && v.line[0].target == 2.0 && !strcmp(v.line[0].basis, "asked"));
 }
 
 static void test_parse(void)
@@ -185,13 +237,13 @@ static void test_weighted_rms(void)
     d.mass_weighted = 0; /* v itself analysed: its own rms, 2.0, is judged */
     hx_verdict_judge(&q, &d, &v);
     CHECK(!v.passed && line_passed(&v, "rms velocity") == 0);
-    /* every line fits: rms, mean, share, worst shell, slope, recipe slope and six of the state */
+    /* every line fits: rms, mean, share, worst shell, slope (the recipe's as asked) and six of the state */
     q = state_request(0);
     q.has_vrms = q.has_fraction = q.has_shell_fraction = q.has_slope = 1;
     q.vrms = 0.64, q.fraction = 0.3, q.slope = 2.0, q.slope_recipe = 1.9, q.expected_fraction = 0.3;
     d = state_cube(), d.mass_weighted = 1;
     hx_verdict_judge(&q, &d, &v);
-    CHECK(v.n == 12 && v.n <= HX_VERDICT_MAX);
+    CHECK(v.n == 11 && v.n <= HX_VERDICT_MAX);
 }
 
 /* A magnetic summary that matches magnetic_request below exactly: B0 = (0.3, 0.4, 0), |B0| = 0.5,
@@ -351,7 +403,7 @@ static void test_expect_state(void)
     for (int i = 0; i < v.n; i++)
         if (strstr(v.line[i].quantity, "Mach")) {
             found = 1;
-            CHECK(v.line[i].passed && v.line[i].requested == 3.5);
+            CHECK(v.line[i].passed && v.line[i].asked == 3.5 && v.line[i].target == 3.5);
         }
     CHECK(found && v.passed);
     hx_request_defaults(&q, 0, 0);
@@ -370,6 +422,7 @@ static void test_expect_state(void)
 int main(void)
 {
     test_judge();
+    test_asked_target();
     test_parse();
     test_expect_state();
     test_state();
