@@ -6,7 +6,9 @@
 
 #include <cjson/cJSON.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include "helmix/version.h"
 
@@ -64,8 +66,10 @@ static void print_magnetic(FILE *out, const hx_diag *d)
     else fprintf(out, "    plasma beta: no sound speed known (give --sound-speed)\n");
     fprintf(out, "    Alfven Mach number sigma_3D / v_A %.7g (sigma_3D = %.7g, %s)\n", m->alfven_mach, m->sigma_3d,
             d->has_state ? "mass-weighted over the region" : "volume-weighted over the box");
-    fprintf(out, "    magnetic energy (k != 0) 1/2 sum |B_hat|^2 %.7g; spectral slope over shells [%g, %g]: %.4f +- %.4f\n",
-            b->e_total, b->fit_kmin, b->fit_kmax, b->slope, b->slope_err);
+    fprintf(out, "    magnetic energy (k != 0) 1/2 sum |B_hat|^2 %.7g; spectral slope over shells [%g, %g]: ", b->e_total,
+            b->fit_kmin, b->fit_kmax);
+    if (isfinite(b->slope)) fprintf(out, "%.4f +- %.4f\n", b->slope, b->slope_err);
+    else fprintf(out, "none (fewer than 3 shells there carry energy)\n");
     fprintf(out, "    divergence (spectral) rms(k.B_hat) / rms(|k| |B_hat|) %.3g\n", m->div_spectral);
     if (m->has_face)
         fprintf(out, "    face-centred: rms |B| %.7g; discrete divergence max %.3g, over rms |B| / min dx: %.3g\n",
@@ -103,8 +107,10 @@ void hx_report_print(FILE *out, const hx_diag *d, const char *source)
     fprintf(out, "  compressive share of the kinetic energy: %.8f\n", d->fraction);
     fprintf(out, "  rms divergence %.6g, rms vorticity %.6g (1/code time); as shares of the rms gradient: %.4f, %.4f\n",
             d->div_rms, d->vort_rms, d->div_ratio, d->vort_ratio);
-    fprintf(out, "  spectral slope over shells [%g, %g]: %.4f +- %.4f (E ~ k^-slope, mode-count compensated)\n",
-            d->fit_kmin, d->fit_kmax, d->slope, d->slope_err);
+    if (isfinite(d->slope))
+        fprintf(out, "  spectral slope over shells [%g, %g]: %.4f +- %.4f (E ~ k^-slope, mode-count compensated)\n",
+                d->fit_kmin, d->fit_kmax, d->slope, d->slope_err);
+    else fprintf(out, "  spectral slope over shells [%g, %g]: none (fewer than 3 shells there carry energy)\n", d->fit_kmin, d->fit_kmax);
     fprintf(out, "\n  %5s %10s %14s %14s %14s %9s\n", "k", "modes", "E(k)", "E_comp(k)", "E_sol(k)", "share");
     double emax = 0;
     int quiet = 0;
@@ -123,10 +129,31 @@ void hx_report_print(FILE *out, const hx_diag *d, const char *source)
     print_magnetic(out, d);
 }
 
+/* The shortest decimal text that reads back as exactly x (at most 17 digits), as in the CSV
+ * table, so the two files hold the same numbers; cJSON's own printing keeps only ~15 digits. */
+static void exact_text(char *buf, size_t len, double x)
+{
+    for (int digits = 15; digits <= 17; digits++) {
+        snprintf(buf, len, "%.*g", digits, x);
+        if (strtod(buf, NULL) == x) return;
+    }
+}
+
+/* A number as JSON: exact text, or null when it is not finite (RFC 8259 has no NaN). */
+static cJSON *num(double x)
+{
+    char buf[32];
+    if (!isfinite(x)) return cJSON_CreateNull();
+    exact_text(buf, sizeof buf, x);
+    return cJSON_CreateRaw(buf);
+}
+
+static void add_num(cJSON *o, const char *name, double x) { cJSON_AddItemToObject(o, name, num(x)); }
+
 static cJSON *array(const double *v, int n)
 {
     cJSON *a = cJSON_CreateArray();
-    for (int i = 0; a && i < n; i++) cJSON_AddItemToArray(a, cJSON_CreateNumber(v[i]));
+    for (int i = 0; a && i < n; i++) cJSON_AddItemToArray(a, num(v[i]));
     return a;
 }
 
@@ -163,11 +190,11 @@ static cJSON *verdict(const hx_verdict *v)
         const hx_verdict_line *l = &v->line[i];
         cJSON *e = cJSON_CreateObject();
         cJSON_AddStringToObject(e, "quantity", l->quantity);
-        cJSON_AddNumberToObject(e, "asked", l->asked); /* NaN (nothing asked) prints as null */
-        cJSON_AddNumberToObject(e, "target", l->target);
+        add_num(e, "asked", l->asked); /* NaN (nothing asked) prints as null */
+        add_num(e, "target", l->target);
         cJSON_AddStringToObject(e, "target_is", l->basis);
-        cJSON_AddNumberToObject(e, "measured", l->measured);
-        cJSON_AddNumberToObject(e, "tolerance", l->tolerance); /* NaN (information only) prints as null */
+        add_num(e, "measured", l->measured);
+        add_num(e, "tolerance", l->tolerance); /* NaN (information only) prints as null */
         if (isnan(l->tolerance)) cJSON_AddNullToObject(e, "passed");
         else cJSON_AddBoolToObject(e, "passed", l->passed);
         cJSON_AddItemToArray(lines, e);
@@ -181,23 +208,23 @@ static cJSON *state(const hx_diag *d)
 {
     if (!d->has_state) return cJSON_CreateNull();
     cJSON *o = cJSON_CreateObject();
-    cJSON_AddNumberToObject(o, "mass", d->mass);
-    cJSON_AddNumberToObject(o, "density_mean", d->rho_mean);
-    cJSON_AddNumberToObject(o, "ln_density_mean", d->ln_rho_mean);
-    cJSON_AddNumberToObject(o, "sigma_s", d->sigma_s);
+    add_num(o, "mass", d->mass);
+    add_num(o, "density_mean", d->rho_mean);
+    add_num(o, "ln_density_mean", d->ln_rho_mean);
+    add_num(o, "sigma_s", d->sigma_s);
     cJSON_AddItemToObject(o, "velocity_mean", array(d->vmean, 3));
-    cJSON_AddNumberToObject(o, "velocity_rms", d->vrms);
+    add_num(o, "velocity_rms", d->vrms);
     cJSON_AddBoolToObject(o, "cloud", d->cloud);
     cJSON_AddItemToObject(o, "cloud_center", array(d->cloud_center, 3));
-    cJSON_AddNumberToObject(o, "radius", d->radius);
-    cJSON_AddNumberToObject(o, "region_mass", d->region_mass);
-    cJSON_AddNumberToObject(o, "sigma_3d", d->sigma_3d);
-    cJSON_AddNumberToObject(o, "sound_speed", d->sound_speed);
-    cJSON_AddNumberToObject(o, "mach", d->mach);
-    cJSON_AddNumberToObject(o, "gravity", d->gravity);
-    cJSON_AddNumberToObject(o, "virial", d->virial);
+    add_num(o, "radius", d->radius);
+    add_num(o, "region_mass", d->region_mass);
+    add_num(o, "sigma_3d", d->sigma_3d);
+    add_num(o, "sound_speed", d->sound_speed);
+    add_num(o, "mach", d->mach);
+    add_num(o, "gravity", d->gravity);
+    add_num(o, "virial", d->virial);
     cJSON_AddItemToObject(o, "momentum", array(d->momentum, 3));
-    cJSON_AddNumberToObject(o, "momentum_relative", d->momentum_rel);
+    add_num(o, "momentum_relative", d->momentum_rel);
     return o;
 }
 
@@ -220,38 +247,38 @@ static cJSON *magnetic(const hx_diag *d)
     cJSON *o = cJSON_CreateObject();
     cJSON_AddBoolToObject(o, "single_precision", m->single);
     cJSON_AddItemToObject(o, "mean", array(b->mean, 3));
-    cJSON_AddNumberToObject(o, "mean_magnitude", m->mean_abs);
+    add_num(o, "mean_magnitude", m->mean_abs);
     cJSON_AddItemToObject(o, "rms", array(b->rms, 3));
-    cJSON_AddNumberToObject(o, "rms_3d", b->rms3);
-    cJSON_AddNumberToObject(o, "random_rms", m->random_rms);
+    add_num(o, "rms_3d", b->rms3);
+    add_num(o, "random_rms", m->random_rms);
     cJSON_AddItemToObject(o, "skewness", array(b->skew, 3));
     cJSON_AddItemToObject(o, "excess_kurtosis", array(b->kurt, 3));
-    cJSON_AddNumberToObject(o, "unit_gauss", ug);
+    add_num(o, "unit_gauss", ug);
     cJSON *gs = isfinite(ug) ? cJSON_CreateObject() : cJSON_CreateNull();
     if (isfinite(ug)) {
         cJSON_AddItemToObject(gs, "mean", scaled(b->mean, 3, ug));
-        cJSON_AddNumberToObject(gs, "mean_magnitude", m->mean_abs * ug);
-        cJSON_AddNumberToObject(gs, "rms_3d", b->rms3 * ug);
-        cJSON_AddNumberToObject(gs, "random_rms", m->random_rms * ug);
+        add_num(gs, "mean_magnitude", m->mean_abs * ug);
+        add_num(gs, "rms_3d", b->rms3 * ug);
+        add_num(gs, "random_rms", m->random_rms * ug);
     }
     cJSON_AddItemToObject(o, "gauss", gs);
-    cJSON_AddNumberToObject(o, "density_mean", m->density_mean);
-    cJSON_AddNumberToObject(o, "sound_speed", m->sound_speed);
-    cJSON_AddNumberToObject(o, "gamma", m->gamma);
-    cJSON_AddNumberToObject(o, "sigma_3d", m->sigma_3d);
-    cJSON_AddNumberToObject(o, "alfven_speed", m->v_alfven);
-    cJSON_AddNumberToObject(o, "unit_velocity_cm_s", m->unit_velocity_cm_s);
-    cJSON_AddNumberToObject(o, "alfven_speed_cm_s", m->v_alfven * m->unit_velocity_cm_s);
-    cJSON_AddNumberToObject(o, "beta", m->beta);
-    cJSON_AddNumberToObject(o, "alfven_mach", m->alfven_mach);
+    add_num(o, "density_mean", m->density_mean);
+    add_num(o, "sound_speed", m->sound_speed);
+    add_num(o, "gamma", m->gamma);
+    add_num(o, "sigma_3d", m->sigma_3d);
+    add_num(o, "alfven_speed", m->v_alfven);
+    add_num(o, "unit_velocity_cm_s", m->unit_velocity_cm_s);
+    add_num(o, "alfven_speed_cm_s", m->v_alfven * m->unit_velocity_cm_s);
+    add_num(o, "beta", m->beta);
+    add_num(o, "alfven_mach", m->alfven_mach);
     cJSON *e = cJSON_AddObjectToObject(o, "energy");
-    cJSON_AddNumberToObject(e, "total", b->e_total);
-    cJSON_AddNumberToObject(e, "compressive", b->e_comp);
-    cJSON_AddNumberToObject(o, "divergence_ratio", m->div_spectral);
+    add_num(e, "total", b->e_total);
+    add_num(e, "compressive", b->e_comp);
+    add_num(o, "divergence_ratio", m->div_spectral);
     cJSON *sl = cJSON_AddObjectToObject(o, "slope");
     cJSON_AddItemToObject(sl, "fit_range", array(fit, 2));
-    cJSON_AddNumberToObject(sl, "value", b->slope);
-    cJSON_AddNumberToObject(sl, "stderr", b->slope_err);
+    add_num(sl, "value", b->slope);
+    add_num(sl, "stderr", b->slope_err);
     cJSON *sh = shells(b);
     if (sh) { /* E_B(k) and its curl-free part, which a magnetic field should not have */
         cJSON_DeleteItemFromObject(sh, "solenoidal");
@@ -260,9 +287,9 @@ static cJSON *magnetic(const hx_diag *d)
     cJSON_AddItemToObject(o, "shells", sh);
     cJSON *f = m->has_face ? cJSON_CreateObject() : cJSON_CreateNull();
     if (m->has_face) {
-        cJSON_AddNumberToObject(f, "rms_3d", m->face_rms);
-        cJSON_AddNumberToObject(f, "divergence_max", m->face_div_max);
-        cJSON_AddNumberToObject(f, "divergence_ratio", m->face_div);
+        add_num(f, "rms_3d", m->face_rms);
+        add_num(f, "divergence_max", m->face_div_max);
+        add_num(f, "divergence_ratio", m->face_div);
     }
     cJSON_AddItemToObject(o, "face", f);
     return o;
@@ -279,30 +306,30 @@ hx_status hx_report_json(const char *path, const hx_diag *d, const hx_verdict *v
     cJSON_AddStringToObject(root, "file", source);
     cJSON_AddItemToObject(root, "cells", array(cells, 3));
     cJSON_AddItemToObject(root, "box", array(d->box, 3));
-    cJSON_AddNumberToObject(root, "ranks", d->ranks);
-    cJSON_AddNumberToObject(root, "seconds", d->seconds);
-    cJSON_AddNumberToObject(root, "peak_rss_bytes", (double)d->peak_rss);
-    cJSON_AddNumberToObject(root, "remove_scale", d->remove_scale);
+    add_num(root, "ranks", d->ranks);
+    add_num(root, "seconds", d->seconds);
+    add_num(root, "peak_rss_bytes", (double)d->peak_rss);
+    add_num(root, "remove_scale", d->remove_scale);
     cJSON_AddBoolToObject(root, "mass_weighted", d->mass_weighted);
     cJSON_AddItemToObject(root, "mean", array(d->mean, 3));
     cJSON_AddItemToObject(root, "rms", array(d->rms, 3));
-    cJSON_AddNumberToObject(root, "rms_3d", d->rms3);
+    add_num(root, "rms_3d", d->rms3);
     cJSON_AddItemToObject(root, "skewness", array(d->skew, 3));
     cJSON_AddItemToObject(root, "excess_kurtosis", array(d->kurt, 3));
     cJSON *e = cJSON_AddObjectToObject(root, "energy");
-    cJSON_AddNumberToObject(e, "total", d->e_total);
-    cJSON_AddNumberToObject(e, "compressive", d->e_comp);
-    cJSON_AddNumberToObject(e, "solenoidal", d->e_sol);
-    cJSON_AddNumberToObject(e, "compressive_fraction", d->fraction);
+    add_num(e, "total", d->e_total);
+    add_num(e, "compressive", d->e_comp);
+    add_num(e, "solenoidal", d->e_sol);
+    add_num(e, "compressive_fraction", d->fraction);
     cJSON *gr = cJSON_AddObjectToObject(root, "gradients");
-    cJSON_AddNumberToObject(gr, "divergence_rms", d->div_rms);
-    cJSON_AddNumberToObject(gr, "vorticity_rms", d->vort_rms);
-    cJSON_AddNumberToObject(gr, "divergence_ratio", d->div_ratio);
-    cJSON_AddNumberToObject(gr, "vorticity_ratio", d->vort_ratio);
+    add_num(gr, "divergence_rms", d->div_rms);
+    add_num(gr, "vorticity_rms", d->vort_rms);
+    add_num(gr, "divergence_ratio", d->div_ratio);
+    add_num(gr, "vorticity_ratio", d->vort_ratio);
     cJSON *sl = cJSON_AddObjectToObject(root, "slope");
     cJSON_AddItemToObject(sl, "fit_range", array(fit, 2));
-    cJSON_AddNumberToObject(sl, "value", d->slope);
-    cJSON_AddNumberToObject(sl, "stderr", d->slope_err);
+    add_num(sl, "value", d->slope);
+    add_num(sl, "stderr", d->slope_err);
     cJSON_AddItemToObject(root, "state", state(d));
     cJSON_AddItemToObject(root, "magnetic", magnetic(d));
     cJSON_AddItemToObject(root, "shells", shells(d));
@@ -326,10 +353,17 @@ hx_status hx_report_csv(const char *path, const hx_diag *d)
     FILE *fp = fopen(path, "w");
     if (!fp) return hx_error_set(HX_ERR_IO, "cannot write the CSV table %s", path);
     fprintf(fp, "k,modes,energy,compressive,solenoidal,compressive_fraction\n");
-    for (int s = 1; s < d->nshell; s++) {
-        double share = d->shell_e[s] > 0 ? d->shell_comp[s] / d->shell_e[s] : NAN;
-        fprintf(fp, "%d,%.0f,%.17g,%.17g,%.17g,%.17g\n", s, d->shell_modes[s], d->shell_e[s], d->shell_comp[s],
-                d->shell_sol[s], share);
+    /* the rows of the JSON's shells: from k = 0 (the mean flow, left out: no modes, no energy);
+     * the share of a shell without energy is undefined, an empty field as JSON's null */
+    for (int s = 0; s < d->nshell; s++) {
+        char t[5][32];
+        exact_text(t[0], sizeof t[0], d->shell_modes[s]);
+        exact_text(t[1], sizeof t[1], d->shell_e[s]);
+        exact_text(t[2], sizeof t[2], d->shell_comp[s]);
+        exact_text(t[3], sizeof t[3], d->shell_sol[s]);
+        if (d->shell_e[s] > 0) exact_text(t[4], sizeof t[4], d->shell_comp[s] / d->shell_e[s]);
+        else t[4][0] = '\0';
+        fprintf(fp, "%d,%s,%s,%s,%s,%s\n", s, t[0], t[1], t[2], t[3], t[4]);
     }
     return fclose(fp) == 0 ? HX_OK : hx_error_set(HX_ERR_IO, "cannot finish writing %s", path);
 }

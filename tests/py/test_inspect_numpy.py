@@ -62,11 +62,11 @@ def csv_equals_json(c, label, run):
     cols = ["k", "modes", "energy", "compressive", "solenoidal", "compressive_fraction"]
     c.check(f"[{label}] CSV header", list(tab.dtype.names) == cols, str(tab.dtype.names),
             "helmix CSV layout")
-    c.check(f"[{label}] CSV rows are shells 1..n-1", tab.shape[0] == n - 1
-            and np.array_equal(tab["k"], np.arange(1, n)), f"{tab.shape[0]} rows, {n} shells")
+    c.check(f"[{label}] CSV rows are the JSON's shells 0..n-1", tab.shape[0] == n
+            and np.array_equal(tab["k"], np.arange(0, n)), f"{tab.shape[0]} rows, {n} shells")
     worst = 0.0
     for col in cols:
-        js = np.array([np.nan if x is None else x for x in sh[col][1:]], float)
+        js = np.array([np.nan if x is None else x for x in sh[col]], float)
         cv = tab[col]
         both = np.isnan(js) & np.isnan(cv)
         d = np.where(both, 0.0, np.abs(js - cv) / np.maximum(np.abs(js), 1e-300))
