@@ -142,14 +142,14 @@ def check_tables(c, hx, f, work):
 
 
 def check_swallow(c, hx, f, work):
-    # every value-taking option followed by another option: refused, naming the option, nothing written
+    # value-taking options followed by another option: refused, naming the option, nothing written.
+    # The parser is one function for all rows: the first and last such row of each table keep the
+    # run short (every row is parsed with its value in check_tables).
     bad = []
     for cmd, opts in OPTIONS.items():
-        for name, val in opts.items():
-            if val is None:
-                continue
-            follower = "--help"
-            argv = [cmd] + operands(cmd, f) + [name, follower]
+        valued = [n for n, v in opts.items() if v is not None]
+        for name in sorted({valued[0], valued[-1]}):
+            argv = [cmd] + operands(cmd, f) + [name, "--help"]
             rc, out, err = run(hx, argv, work)
             if not (rc == 2 and len(err) == 1 and err[0].startswith("helmix: error:") and name in err[0]
                     and "needs a value" in err[0] and not out):
@@ -235,7 +235,7 @@ def check_same_file(c, hx, f, work):
     os.link(cube, hard)
     for label, path, cwd in (("the same name", os.path.basename(cube), d), ("./ spelling", "./" + os.path.basename(cube), d),
                              ("an absolute path", cube, work), ("a symbolic link", sym, work), ("a hard link", hard, work)):
-        for opt in ("--json", "--csv"):
+        for opt in (("--json", "--csv") if label == "a hard link" else ("--json",)):
             rc, out, err = run(hx, ["inspect", os.path.basename(cube) if cwd == d else cube, opt, path], cwd)
             c.check(f"inspect CUBE {opt} <{label} of CUBE>: exit 2, one line, cube unchanged",
                     rc == 2 and len(err) == 1 and "input" in err[0] and sha(cube) == before, f"rc={rc} {err}", SRC_FILES)
