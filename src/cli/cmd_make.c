@@ -120,10 +120,11 @@ static hx_status check_make_files(const make_args *a, const hx_recipe *r, MPI_Co
 static void say_run(const hx_log *log, const make_args *a, const hx_recipe *r)
 {
     if (log->verbosity < HX_LOG_DEBUG) return;
-    char mem[32] = "node's available";
+    char mem[32] = "the node's available", threads[40] = "from OMP_NUM_THREADS, else 1";
     if (a->run.mem_per_rank > 0) snprintf(mem, sizeof mem, "%.4g MiB", a->run.mem_per_rank / 1048576.0);
-    hx_log_say(log, HX_LOG_DEBUG, "options: threads %d%s, FFTW effort %s, wisdom %s, memory per rank %s, timings %s, %s",
-               a->run.threads, a->run.threads ? "" : " (OMP_NUM_THREADS, else 1)", hx_fft_effort_name(a->run.effort),
+    if (a->run.threads > 0) snprintf(threads, sizeof threads, "%d", a->run.threads);
+    hx_log_say(log, HX_LOG_DEBUG, "options: threads %s, FFTW effort %s, wisdom %s, memory per rank %s, timings %s, %s",
+               threads, hx_fft_effort_name(a->run.effort),
                a->run.wisdom ? a->run.wisdom : "none", mem, a->timings ? a->timings : "none",
                a->force ? "--force: an existing output is replaced" : "an existing output is refused");
     for (int i = 0; i < a->nsets; i++) hx_log_say(log, HX_LOG_DEBUG, "--set %s", a->sets[i]);
