@@ -1,7 +1,8 @@
 /* field.c — k-space sums, mix and one-component-at-a-time synthesis through in-place c2r.
  * Invariants: the complex slab holds an exactly Hermitian spectrum (draws are keyed on the
- * canonical half); the DC and Nyquist entries are zero; the per-shell factors a_s, b_s of
- * hx_mix_solve are applied identically in the sums and in the synthesis. */
+ * canonical half); the DC and Nyquist entries are zero (an odd axis has no Nyquist index: every
+ * frequency there has its partner); the per-shell factors a_s, b_s of hx_mix_solve are applied
+ * identically in the sums and in the synthesis. */
 #include "helmix/field.h"
 
 #include <complex.h>
@@ -22,7 +23,8 @@ typedef struct mode_s {
     double amp;          /* sqrt(E(k) / k^2) */
     int shell;
     int64_t n[3];
-    double weight;       /* 2 for x > 0 (the conjugate partner is not stored), 1 for x = 0 */
+    double weight;       /* 2 for x > 0 (the conjugate partner is not stored), 1 for x = 0; an
+                          * even Nx's x = Nx/2 never carries power, an odd Nx's top x has its partner */
 } mode_t_;
 
 /* Kept draws: which modes they belong to, and how far a pass has got. */
@@ -61,7 +63,7 @@ struct hx_field {
     int cache_state;
     cache_key key;
     double *ph[3];          /* per axis: half-cell phase exp(i pi n / N) as (re, im) pairs */
-    double *kv[3];          /* per axis: wavenumber component n * lmax / L (NAN at Nyquist)  */
+    double *kv[3];          /* per axis: wavenumber component n * lmax / L (NAN at an even N's Nyquist index) */
     double *kd[3];          /* per axis: (2 N / L) sin(pi n / N), the staggered difference's k  */
     double kmin2, kmax2;    /* band limits, squared                                       */
     double *tab_amp, *tab_k; /* cubic boxes: amplitude and |k| by integer k^2 (else NULL)   */
@@ -125,7 +127,7 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, const hx_field_opts 
             if (st == HX_OK && !f->kv[a]) st = hx_error_set(HX_ERR_MEM, "out of memory allocating wavenumber tables");
             else if (st == HX_OK)
                 for (ptrdiff_t i = 0; i < g->n[a]; i++)
-                    f->kv[a][i] = i == g->n[a] / 2 ? NAN : (double)hx_grid_freq(i, g->n[a]) * hx_grid_kunit(g, a);
+                    f->kv[a][i] = 2 * i == g->n[a] ? NAN : (double)hx_grid_freq(i, g->n[a]) * hx_grid_kunit(g, a);
         }
     }
     if (st == HX_OK) {
@@ -178,7 +180,8 @@ static inline void amp_of(const hx_field *f, double k2, double *amp, double *k)
 }
 
 /* Fill m for the local array position (y, z, x); returns 0 for modes without power
- * (outside the band, k = 0, or a Nyquist index: its kv entry is NAN and fails every test). */
+ * (outside the band, k = 0, or an even axis's Nyquist index: its kv entry is NAN and fails
+ * every test). */
 static inline int mode_at(const hx_field *f, ptrdiff_t y, ptrdiff_t z, ptrdiff_t x, mode_t_ *m)
 {
     const hx_grid *g = &f->g;
@@ -377,8 +380,9 @@ static void flush_plane(hx_field *f, double *plane)
 }
 
 /* Count the Fourier modes of every shell below ns, whether or not they carry power, with the
- * conventions of inspect (Nyquist at -N/2, weight 1 on the kx = 0 and kx = Nx/2 planes), so a
- * mode-count-compensated spectrum means the same in both. */
+ * conventions of inspect (Nyquist at -N/2, weight 1 on the kx = 0 and an even Nx's kx = Nx/2
+ * planes), so a mode-count-compensated spectrum means the same in both. The shell is settled in
+ * double before any cast: |k| of an elongated box's modes may be far beyond an int. */
 static void count_modes(hx_field *f, double *modes, int ns)
 {
     const hx_grid *g = &f->g;
@@ -388,8 +392,8 @@ static void count_modes(hx_field *f, double *modes, int ns)
             double kz = (double)hx_grid_freq(z, g->n[2]) * hx_grid_kunit(g, 2), b2 = ky * ky + kz * kz;
             for (ptrdiff_t x = 0; x < g->nxc; x++) {
                 double kx = (double)hx_grid_freq(x, g->n[0]) * hx_grid_kunit(g, 0), k2 = b2 + kx * kx;
-                int s = (int)(sqrt(k2) + 0.5);
-                if (k2 > 0 && s < ns) modes[s] += (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
+                double r = sqrt(k2) + 0.5; /* shell floor(r), below ns exactly when r < ns */
+                if (k2 > 0 && r < ns) modes[(int)r] += (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
             }
             if (z == g->n[2] - 1) flush_plane(f, modes - 2 * ns);
         }
@@ -443,6 +447,8 @@ hx_status hx_field_mix(hx_field *f, const hx_desc *d, const hx_spectrum *sp)
     f->sp = sp;
     f->ready = 0;
     free_shells(f);
+    if (!(d->spectrum.kmax <= HX_GRID_SHELLS_MAX))
+        HX_FAIL(HX_ERR_ARG, "kmax = %g: more than the %.0f shells a grid may span", d->spectrum.kmax, HX_GRID_SHELLS_MAX);
     HX_TRY(prepare_band(f));
     f->nshell = (int)(d->spectrum.kmax + 0.5) + 2;
     int ns = f->nshell;
