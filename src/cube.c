@@ -201,7 +201,8 @@ fail:
     return st;
 }
 
-/* Box from the Grid Data Format domain edges, if the file has them. */
+/* Box from the Grid Data Format domain edges, if the file has them; edges that are not finite
+ * give a side that is not either, for hx_grid_check to refuse. */
 static void gdf_box(hx_cube *cu)
 {
     double l[3], r[3];
@@ -211,7 +212,7 @@ static void gdf_box(hx_cube *cu)
     hid_t al = H5Aopen(g, "domain_left_edge", H5P_DEFAULT), ar = H5Aopen(g, "domain_right_edge", H5P_DEFAULT);
     if (al >= 0 && ar >= 0 && H5Aread(al, H5T_NATIVE_DOUBLE, l) >= 0 && H5Aread(ar, H5T_NATIVE_DOUBLE, r) >= 0)
         for (int a = 0; a < 3; a++)
-            if (r[a] > l[a]) cu->box[a] = r[a] - l[a];
+            if (r[a] > l[a] || !isfinite(r[a]) || !isfinite(l[a])) cu->box[a] = r[a] - l[a];
     if (al >= 0) H5Aclose(al);
     if (ar >= 0) H5Aclose(ar);
     H5Gclose(g);

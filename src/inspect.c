@@ -8,7 +8,8 @@
  * state (mass-weighted dispersion, Mach number, virial parameter, momentum, ln rho) is summed
  * in real space from each velocity component as it is read, before it is weighted or transformed.
  * Invariants: v̂ = FFT(v)/N; the r2c half is weighted 2 except the kx = 0 and Nyquist planes
- * (weight 1, their partners are stored); Nyquist frequencies are negative (numpy's fftfreq);
+ * (weight 1, their partners are stored; an odd Nx has no Nyquist plane); Nyquist frequencies
+ * are negative (numpy's fftfreq);
  * k = 0 (the mean flow, the mean magnetic field) enters no energy, spectrum or gradient. */
 #include "helmix/inspect.h"
 
@@ -40,6 +41,7 @@ typedef struct {
     fftw_complex *a, *b, *planes;
     fftw_complex *pny, *pnz; /* k'·v̂' of the unstored partners on the y and z Nyquist planes */
     double *kp[3], *ku[3];   /* per axis: physical wavenumber, wavenumber in units of 2 pi / lmax */
+    double complex *zph;     /* per z index: e^{2 pi i kz zm / Nz}, the mid-plane zm = floor(Nz/2) */
     int *shell_of;           /* cubic boxes: shell of each integer |k|^2 (units 2 pi / lmax)     */
     double *rho;       /* this rank's density, nz * Ny * Nx (NULL without one)        */
     field_t f;         /* the field being analysed                                    */
@@ -55,7 +57,8 @@ typedef struct {
 /* One mode of the local k-space slab. */
 typedef struct {
     double w, kp[3], k2p;
-    int shell, zsign;
+    int shell;
+    double complex zph; /* e^{2 pi i kz zm / Nz}: the mode's phase on the mid-plane zm = floor(Nz/2) */
     double complex *partner; /* accumulator of the unstored partner when it is not at -k, else NULL */
 } kmode_t;
 
@@ -75,6 +78,13 @@ static hx_status tables(work_t *W)
             W->ku[a][i] = (double)n * hx_grid_kunit(g, a);
         }
     }
+    /* the mid-plane phase: exactly +-1 for an even Nz (zm = Nz/2), a root of unity for an odd one */
+    W->zph = malloc((size_t)g->n[2] * sizeof *W->zph);
+    if (!W->zph) return hx_error_set(HX_ERR_MEM, "out of memory for wavenumber tables");
+    for (ptrdiff_t z = 0; z < g->n[2]; z++) {
+        ptrdiff_t q = (z * (g->n[2] / 2)) % g->n[2];
+        W->zph[z] = q == 0 ? 1.0 : 2 * q == g->n[2] ? -1.0 : cexp(2.0 * M_PI * I * (double)q / (double)g->n[2]);
+    }
     if (!cubic) return HX_OK;
     int64_t nq = 0;
     for (int a = 0; a < 3; a++) nq += (g->n[a] / 2) * (g->n[a] / 2);
@@ -92,7 +102,7 @@ static inline void kmode(const work_t *W, ptrdiff_t y, ptrdiff_t z, ptrdiff_t x,
     double ku2 = W->ku[0][x] * W->ku[0][x] + W->ku[1][y] * W->ku[1][y] + W->ku[2][z] * W->ku[2][z];
     m->shell = W->shell_of ? W->shell_of[(int64_t)(ku2 + 0.5)] : (int)(sqrt(ku2) + 0.5);
     m->w = (x == 0 || 2 * x == g->n[0]) ? 1.0 : 2.0;
-    m->zsign = (z % 2) ? -1 : 1; /* e^{2 pi i z (Nz/2) / Nz} for the mid-plane z = Nz/2 */
+    m->zph = W->zph[z];
     /* The unstored partner of a weight-2 mode is normally -k. On a y or z Nyquist plane its
      * Nyquist component stays -N/2 (numpy's fftfreq convention), so its direction differs
      * and its projection needs an accumulator of its own. */
@@ -148,10 +158,10 @@ static void accumulate(work_t *W, int c, hx_diag *d)
                 }
                 if (!W->f.slices) continue;
                 ptrdiff_t p = (y - g->y0) * g->nxc + x;
-                double complex iX = I * X * m.zsign;
+                double complex iX = I * X * m.zph;
                 /* vorticity i k x v̂: v_c adds +i k_{c+2} v_c to w_{c+1} and -i k_{c+1} v_c to w_{c+2} */
                 int c1 = (c + 1) % 3, c2 = (c + 2) % 3;
-                P[(PV + c) * plane + p] += X * m.zsign;
+                P[(PV + c) * plane + p] += X * m.zph;
                 P[(PW + c1) * plane + p] += m.kp[c2] * iX;
                 P[(PW + c2) * plane + p] -= m.kp[c1] * iX;
             }
@@ -179,7 +189,7 @@ static void accumulate_div(work_t *W, hx_diag *d)
                 }
                 d->shell_comp[m.shell] += 0.5 * wt * e * inv;
                 W->div2 += wt * e;
-                if (W->f.slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * D * m.zsign;
+                if (W->f.slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * D * m.zph;
             }
 }
 
@@ -287,7 +297,14 @@ static hx_status setup(work_t *W, const hx_inspect_opts *o, hx_cube *cube, MPI_C
     int64_t cells[3];
     double box[3];
     hx_cube_shape(cube, cells, box);
-    HX_TRY(hx_grid_init(&W->g, cells, box, comm));
+    st = hx_grid_init(&W->g, cells, box, comm);
+    if (st == HX_ERR_ARG) { /* the same verdict on every rank: say where the box came from */
+        char why[512];
+        snprintf(why, sizeof why, "%s", hx_error_message());
+        HX_FAIL(st, "%s: %s (the box %s)", o->cube.file, why,
+                o->cube.has_box ? "given by --box" : "from the file's domain edges, else 1 1 1");
+    }
+    HX_TRY(st);
     const hx_grid *g = &W->g;
     W->comm = comm;
     W->file = o->cube.file;
@@ -328,6 +345,7 @@ static void teardown(work_t *W)
         free(W->ku[a]);
     }
     free(W->shell_of);
+    free(W->zph);
 }
 
 /* Collective: read slot c of this rank's slab into dst (rows `stride` apart), timed as "read"
