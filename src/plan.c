@@ -13,6 +13,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "helmix/grid.h"
 #include "helmix/make.h"
 
 #define MIB 1048576.0
@@ -76,7 +77,7 @@ static void plane_modes(const int64_t cells[3], const double box[3], double kmin
     double lmax = fmax(box[0], fmax(box[1], box[2])), u[3];
     for (int a = 0; a < 3; a++) u[a] = lmax / box[a];
     const double lo = kmin * kmin * (1 - 1e-12), hi = kmax * kmax * (1 + 1e-12); /* field.c's slack */
-    const int64_t nx = cells[0] / 2; /* kx = 0 .. Nx/2 - 1: index Nx/2 is the Nyquist plane */
+    const int64_t nx = (cells[0] + 1) / 2; /* kx = 0 .. (Nx-1)/2: an even Nx's index Nx/2 is its Nyquist plane */
     for (int64_t y = y0; y < y0 + ny; y++) {
         int64_t c = 0;
         count[y - y0] = 0;
@@ -262,9 +263,11 @@ hx_status hx_plan_compute(const hx_recipe *r, int ranks, int threads, double bud
     memset(p, 0, sizeof *p);
     if (ranks < 1) return hx_error_set(HX_ERR_ARG, "plan: %d ranks: need at least 1", ranks);
     if (threads < 1) return hx_error_set(HX_ERR_ARG, "plan: %d threads per rank: need at least 1", threads);
-    for (int a = 0; a < 3; a++)
-        if (r->cells[a] < 2 || r->cells[a] % 2)
-            return hx_error_set(HX_ERR_ARG, "plan: grid axis %d has %lld cells: must be even and >= 2", a, (long long)r->cells[a]);
+    if (hx_grid_check(r->cells, r->box) != HX_OK) { /* the grid make would refuse */
+        char why[512];
+        snprintf(why, sizeof why, "%s", hx_error_message());
+        return hx_error_set(HX_ERR_ARG, "plan: %s", why);
+    }
     if (!(budget_bytes >= 0)) return hx_error_set(HX_ERR_ARG, "plan: memory budget %g bytes: must be >= 0", budget_bytes);
     memcpy(p->cells, r->cells, sizeof p->cells);
     p->ranks = ranks, p->threads = threads;
@@ -319,7 +322,7 @@ hx_status hx_plan_compute(const hx_recipe *r, int ranks, int threads, double bud
     p->datasets = 3 + (r->density_model != HX_DENSITY_NONE) + (r->parts ? 6 : 0) +
                   (hx_recipe_has_magnetic(r) ? 3 * (1 + (r->faces != 0)) : 0);
     double one = (double)r->cells[0] * r->cells[1] * r->cells[2] * p->value_bytes;
-    int shells = p->shaped ? (int)(sqrt(3.0 * 0.25 * (double)(r->cells[0] * r->cells[0])) + 0.5) + 2
+    int shells = p->shaped ? (int)(hx_grid_kcorner(r->cells, r->box) + 0.5) + 2 /* inspect's shells_needed */
                            : (int)(r->spectrum.kmax + 0.5) + 2;
     p->data_bytes = one * p->datasets;
     p->meta_bytes = META_BASE + META_DATASET * p->datasets + META_SHELL * shells;

@@ -15,10 +15,10 @@
 /* Every rank's planes and complex count against FFTW (the reference the plan must match). */
 static void test_slabs(MPI_Comm comm, int rank, int size)
 {
-    static const int64_t sizes[] = {16, 18, 30, 64};
-    for (int i = 0; i < 4; i++)
-        for (int j = 0; j < 4; j++) {
-            int64_t nz = sizes[i], ny = sizes[j], nx = sizes[(i + j) % 4], nxc = nx / 2 + 1;
+    static const int64_t sizes[] = {16, 18, 30, 64, 17, 31}; /* odd sizes too */
+    for (int i = 0; i < 6; i++)
+        for (int j = 0; j < 6; j++) {
+            int64_t nz = sizes[i], ny = sizes[j], nx = sizes[(i + j) % 6], nxc = nx / 2 + 1;
             ptrdiff_t lnz, lz0, lny, ly0;
             ptrdiff_t alloc = fftw_mpi_local_size_3d_transposed(nz, ny, nxc, comm, &lnz, &lz0, &lny, &ly0);
             int64_t z0, y0, pz = hx_plan_rank_planes(nz, size, rank, &z0), py = hx_plan_rank_planes(ny, size, rank, &y0);
@@ -51,7 +51,8 @@ static void test_slabs(MPI_Comm comm, int rank, int size)
         }
 }
 
-/* The brute-force count: field.c's mode_at test on every stored mode of planes [y0, y0 + ny). */
+/* The brute-force count: field.c's mode_at test on every stored mode of planes [y0, y0 + ny);
+ * frequencies as numpy.fft.fftfreq gives them, an even N's Nyquist index N/2 carrying nothing. */
 static int64_t brute(const int64_t n[3], const double box[3], double kmin, double kmax, int64_t y0, int64_t ny)
 {
     double lmax = fmax(box[0], fmax(box[1], box[2])), lo = kmin * kmin * (1 - 1e-12), hi = kmax * kmax * (1 + 1e-12);
@@ -63,8 +64,8 @@ static int64_t brute(const int64_t n[3], const double box[3], double kmin, doubl
                 double kv[3];
                 int nyq = 0;
                 for (int a = 0; a < 3; a++) {
-                    int64_t f = idx[a] <= n[a] / 2 - 1 ? idx[a] : idx[a] - n[a];
-                    nyq |= idx[a] == n[a] / 2;
+                    int64_t f = idx[a] <= (n[a] - 1) / 2 ? idx[a] : idx[a] - n[a];
+                    nyq |= 2 * idx[a] == n[a];
                     kv[a] = (double)f * (lmax / box[a]);
                 }
                 double k2 = kv[0] * kv[0] + kv[1] * kv[1] + kv[2] * kv[2];
@@ -85,6 +86,9 @@ static void test_band(void)
         {{24, 16, 40}, {1.5, 1, 2.5}, 1.3, 7.7}, /* non-cubic cells and box                  */
         {{64, 64, 16}, {4, 4, 1}, 1, 14},     /* a sheet: kz in steps of 4                    */
         {{16, 16, 16}, {1, 1, 1}, 2, 40},     /* kmax beyond the grid: capped by Nyquist       */
+        {{33, 33, 33}, {1, 1, 1}, 1, 16},     /* odd: the top frequency 16 has its partner     */
+        {{45, 32, 17}, {1.5, 1, 0.5}, 1, 40}, /* odd and even axes, the whole grid             */
+        {{31, 17, 20}, {1, 1, 1}, 2.5, 9.5},  /* odd x: the last stored plane kx = 15 counts    */
     };
     for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
         const int64_t *n = cases[i].n;
