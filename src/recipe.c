@@ -23,6 +23,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "helmix/grid.h"
 #include "helmix/spectrum.h"
 #include "helmix/units.h"
 
@@ -125,7 +126,7 @@ static void format_real(char *buf, size_t n, double x)
 /* What a key holds, and so how it is read and printed. A key's value lives at `off` in
  * hx_recipe; reals, quantities and shares use NAN for "not given". */
 typedef enum {
-    K_CELLS,  /* int64_t[3], even, in [4, CELLS_MAX]                                  */
+    K_CELLS,  /* int64_t[3], each in [4, CELLS_MAX]                                   */
     K_BOX,    /* double[3] > 0                                                         */
     K_ENUM,   /* int, one of `names`                                                   */
     K_REAL,   /* double within `range`                                                  */
@@ -209,7 +210,7 @@ static const char *parse_value(const key *k, hx_recipe *r, const char *v)
         int64_t c[3];
         if (!read_ints3(v, c)) return rule_of(k);
         for (int i = 0; i < 3; i++)
-            if (c[i] < 4 || c[i] > CELLS_MAX || c[i] % 2) return rule_of(k);
+            if (c[i] < 4 || c[i] > CELLS_MAX) return rule_of(k);
         memcpy(dst, c, sizeof c);
         return NULL;
     }
@@ -359,10 +360,10 @@ static int show_value(const key *k, const hx_recipe *r, char *buf, size_t n)
      NULL, NULL, KUNIT, "smallest wavenumber that carries power", 0, 0, 0},                                   \
     {REAL(sec, "kmax", spec.kmax, R_POS,                                                                     \
           "a number > 0 in units of 2 pi / max(L), at least kmin and at most min over axes of "                \
-          "(N_i/2 - 1) * max(L)/L_i"),                                                                         \
-     NULL, "the limit min over axes of (N_i/2 - 1) * max(L)/L_i", "31", KUNIT,                                 \
+          "(ceil(N_i/2) - 1) * max(L)/L_i"),                                                                   \
+     NULL, "the limit min over axes of (ceil(N_i/2) - 1) * max(L)/L_i", "31", KUNIT,                           \
      "largest wavenumber that carries power\n"                                                               \
-     "Its default and upper limit, min over axes of (N_i/2 - 1) * max(L)/L_i, is the largest\n"             \
+     "Its default and upper limit, min over axes of (ceil(N_i/2) - 1) * max(L)/L_i, is the largest\n"       \
      "wavenumber below Nyquist on every axis (31 for cells = 64 in a cube); the default follows the grid.", \
      0, 0, 0},                                                                                                \
     {OTHER(sec, "table", K_PATH, spec.table, "a file of (k, E) rows"), NULL, "none", "spectrum.dat", NULL,   \
@@ -373,11 +374,10 @@ static int show_value(const key *k, const hx_recipe *r, char *buf, size_t n)
      0, 1, 0}
 
 static const key keys[] = {
-    {OTHER("grid", "cells", K_CELLS, cells, "one integer N or three integers \"Nx Ny Nz\", each even "
-                                            "(the real-to-complex FFT layout wants even N) and in [4, 1048576]"),
+    {OTHER("grid", "cells", K_CELLS, cells, "one integer N or three integers \"Nx Ny Nz\", each in [4, 1048576]"),
      NULL, "none: must be given", "64", "cells",
      "grid cells per axis; one integer N means N N N\n"
-     "Even N because the real-to-complex FFT layout wants it.",
+     "Odd and even N alike: an odd N has no Nyquist plane, every frequency keeps its partner.",
      1, 0, 0},
     {OTHER("grid", "box", K_BOX, box, "one number L or three numbers \"Lx Ly Lz\", each > 0"), "1", NULL, NULL,
      "code length",
@@ -1172,7 +1172,8 @@ static hx_status check_groups(const hx_recipe *r)
 double hx_recipe_kmax_limit(const hx_recipe *r)
 {
     double lmax = fmax(r->box[0], fmax(r->box[1], r->box[2])), limit = INFINITY;
-    for (int i = 0; i < 3; i++) limit = fmin(limit, (double)(r->cells[i] / 2 - 1) * lmax / r->box[i]);
+    for (int i = 0; i < 3; i++) /* the highest frequency below N/2: N/2 - 1 for even N, (N-1)/2 for odd */
+        limit = fmin(limit, (double)((r->cells[i] - 1) / 2) * lmax / r->box[i]);
     return limit;
 }
 
@@ -1183,9 +1184,14 @@ static hx_status check_grid(const hx_recipe *r)
         return hx_error_set(HX_ERR_ARG, "%s%s[grid] cells is not given: it has no default; set it, e.g. cells = 256",
                             r->origin, r->origin[0] ? ": " : "");
     for (int i = 0; i < 3; i++)
-        if (c[i] < 4 || c[i] > CELLS_MAX || c[i] % 2) return invalid(r, "grid", "cells", "%s", rule_of(find_key("grid", "cells")));
+        if (c[i] < 4 || c[i] > CELLS_MAX) return invalid(r, "grid", "cells", "%s", rule_of(find_key("grid", "cells")));
     for (int i = 0; i < 3; i++)
         if (!(r->box[i] > 0) || !isfinite(r->box[i])) return invalid(r, "grid", "box", "%s", rule_of(find_key("grid", "box")));
+    if (hx_grid_check(c, r->box) != HX_OK) { /* a box too elongated for the grid: grid.c's limit, before the run */
+        char why[512];
+        snprintf(why, sizeof why, "%s", hx_error_message());
+        return invalid(r, "grid", "box", "%s", why);
+    }
     return HX_OK;
 }
 
@@ -1256,7 +1262,7 @@ static hx_status check_spectrum(hx_recipe *r, const char *section, hx_spectrum_s
     if (!(sp->kmax <= limit * (1 + 1e-12)))
         return invalid(r, section, "kmax",
                        "must be at most %s, the largest wavenumber below Nyquist on every axis, "
-                       "min over axes of (N_i/2 - 1) * max(L)/L_i for cells %" PRId64 " %" PRId64 " %" PRId64
+                       "min over axes of (ceil(N_i/2) - 1) * max(L)/L_i for cells %" PRId64 " %" PRId64 " %" PRId64
                        " and box %g %g %g (leave kmax out to follow the grid)",
                        lim, r->cells[0], r->cells[1], r->cells[2], r->box[0], r->box[1], r->box[2]);
     if (sp->kmin > sp->kmax) {

@@ -135,8 +135,7 @@ static void test_value_errors(void)
     expect_error("[random]\nseed = 18446744073709551616\n", 0, "run.ini:2:", "seed", "18446744073709551615]");
     expect_error("[random]\nseed = 1.5\n", 0, "run.ini:2:", "seed = 1.5", "whole number");
     expect_error("[grid]\ncells = 2\n", 0, "run.ini:2: [grid] cells = 2", "[4, 1048576]", NULL);
-    expect_error("[grid]\ncells = 63\n", 0, "run.ini:2: [grid] cells = 63", "even", "FFT");
-    expect_error("[grid]\ncells = 64 64 33\n", 0, "run.ini:2:", "cells = 64 64 33", "even");
+    expect_error("[grid]\ncells = 64 3 64\n", 0, "run.ini:2: [grid] cells = 64 3 64", "[4, 1048576]", NULL);
     expect_error("[grid]\ncells = 64 64\n", 0, "run.ini:2:", "cells = 64 64", "three integers");
     expect_error("[grid]\ncells = 64.0\n", 0, "run.ini:2:", "cells = 64.0", "integer");
     expect_error("[grid]\nbox = 0\n", 0, "run.ini:2: [grid] box = 0", "> 0", NULL);
@@ -157,7 +156,7 @@ static void test_value_errors(void)
     char text[600] = "# ";
     for (int i = 2; i < 400; i++) text[i] = 'c';
     strcpy(text + 400, "\r\n[grid]\r\ncells = 3\r\n");
-    expect_error(text, 0, "run.ini:3: [grid] cells = 3:", "even", NULL);
+    expect_error(text, 0, "run.ini:3: [grid] cells = 3:", "[4, 1048576]", NULL);
     /* An indented line is a key of its own, never the continuation of the previous value. */
     expect_error("[grid]\ncells = 8\n    16\n", 0, "run.ini:3:", "'16'", "key = value");
     /* A failed parse leaves the recipe as it was. */
@@ -186,7 +185,7 @@ static void test_cross_key(void)
                  "at most kmax = 5", NULL);
     expect_error("[grid]\ncells = 32\n[spectrum]\nkmin = 20\n", 1, "kmin = 20", "at most kmax = 15", "default");
     expect_error("[grid]\ncells = 32\n[spectrum]\nkmax = 16\n", 1, "[spectrum] kmax = 16", "at most 15",
-                 "(N_i/2 - 1) * max(L)/L_i");
+                 "(ceil(N_i/2) - 1) * max(L)/L_i");
     hx_recipe r;
     CHECK(load(&r, "[grid]\ncells = 32\n[spectrum]\nkmax = 15\nkmin = 15\n") == HX_OK);
     /* Both zeta and fraction in one file: the second line is named, and the first. */
@@ -241,7 +240,8 @@ static void test_validate_lines(void)
                  "at most kmax = 0.5 (run.ini:4)", NULL);
 }
 
-/* Spec: limit = min over axes of (N_i/2 - 1) * max(L)/L_i, in units of 2 pi / max(L). */
+/* Spec: limit = min over axes of (ceil(N_i/2) - 1) * max(L)/L_i, in units of 2 pi / max(L): the
+ * highest frequency below N_i/2, N/2 - 1 for even N and (N-1)/2 for odd N (no Nyquist index). */
 static void test_kmax_limit(void)
 {
     hx_recipe r;
@@ -256,6 +256,15 @@ static void test_kmax_limit(void)
     /* Elongated box: (64/2-1)*4/4 = 31 along the long axis, 31*4 elsewhere. */
     CHECK(load(&r, "[grid]\ncells = 64\nbox = 4 1 1\n") == HX_OK);
     CHECK_CLOSE(r.spectrum.kmax, 31.0, 1e-12);
+    /* Odd sizes: 63 and 45 have no Nyquist index, their highest frequencies 31 and 22 carry power. */
+    CHECK(load(&r, "[grid]\ncells = 63\n") == HX_OK);
+    CHECK_CLOSE(r.spectrum.kmax, 31.0, 1e-12);
+    CHECK(load(&r, "[grid]\ncells = 45 64 33\n") == HX_OK);
+    CHECK(r.cells[0] == 45 && r.cells[2] == 33);
+    CHECK_CLOSE(r.spectrum.kmax, 16.0, 1e-12);
+    /* A box too elongated for its grid (more than 2^24 shells, grid.c's limit) is refused at validation. */
+    expect_error("[grid]\ncells = 16\nbox = 1 1 1e12\n", 1, "run.ini:3: [grid] box", "too elongated", "2^24");
+    CHECK(load(&r, "[grid]\ncells = 16\nbox = 1 1 1e6\n") == HX_OK); /* 1.13e7 shells */
     expect_error("[grid]\ncells = 64 64 32\nbox = 2 2 1\n[spectrum]\nkmax = 31\n", 1, "kmax = 31", "at most 30",
                  "cells 64 64 32 and box 2 2 1");
 }
