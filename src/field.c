@@ -12,6 +12,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "helmix/fault.h"
 #include "helmix/mix.h"
 #include "helmix/rng.h"
 #include "helmix/sum.h"
@@ -144,6 +145,7 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, const hx_field_opts 
             if (!w->rm || !w->rn || !w->rw || !w->rx) st = hx_error_set(HX_ERR_MEM, "out of memory for the row buffers");
         }
     }
+    if (st == HX_OK) st = hx_fault_point("alloc", comm); /* HELMIX_FAULT: tests only */
     HX_TRY(hx_error_agree(comm, st));
     if (o->compute == HX_PREC_SINGLE) {
         fftwf_mpi_init();
@@ -154,6 +156,7 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, const hx_field_opts 
                                            o->plan_flags | FFTW_MPI_TRANSPOSED_IN);
     st = f->plan || f->planf ? HX_OK : hx_error_set(HX_ERR_FFTW, "FFTW could not plan a %tdx%tdx%td c2r transform on rank %d",
                                                     g->n[0], g->n[1], g->n[2], g->rank);
+    if (st == HX_OK) st = hx_fault_point("plan", comm);
     HX_TRY(hx_error_agree(comm, st));
     *out = f;
     return HX_OK;

@@ -12,6 +12,7 @@
 #include "cli.h"
 #include "options.h"
 #include "helmix/error.h"
+#include "helmix/fault.h"
 #include "helmix/recipe.h"
 #include "helmix/version.h"
 
@@ -114,6 +115,7 @@ int main(int argc, char **argv)
         MPI_Abort(MPI_COMM_WORLD, HX_EXIT_RUNTIME);
     }
     H5Eset_auto2(H5E_DEFAULT, NULL, NULL); /* helmix reports HDF5 failures in its own words */
+    hx_fault_install_handlers(); /* SIGINT, SIGTERM: remove the partial file being written */
 
     const char *cmd = argc > 1 ? argv[1] : NULL;
     if (!cmd || !strcmp(cmd, "-h") || !strcmp(cmd, "--help") || !strcmp(cmd, "help")) {

@@ -1,0 +1,125 @@
+/* fault.c — the test switch HELMIX_FAULT (one chosen rank fails in one chosen phase) and the
+ * signal handlers that remove the files a run is writing.
+ * Invariant: the handler touches only memory prepared before the signal (fixed slots, a name
+ * is complete before its slot is marked used) and calls only unlink, signal and raise. */
+#include "helmix/fault.h"
+
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "helmix/recipe.h"
+
+static const char *const phases[] = {"alloc", "plan", "create", "write", "close", "rename", "xdmf", "verify"};
+#define NPHASE ((int)(sizeof phases / sizeof phases[0]))
+
+/* The parsed switch: read once (every rank reads the same environment under mpiexec). */
+static struct {
+    int parsed, bad, rank, phase, nth;
+    int passes[NPHASE];
+    char text[128];
+} sw = {0, 0, -1, -1, 1, {0}, ""};
+
+static void parse_switch(void)
+{
+    const char *v = getenv("HELMIX_FAULT");
+    sw.parsed = 1;
+    if (!v || !*v) return;
+    snprintf(sw.text, sizeof sw.text, "%s", v);
+    char name[32] = "";
+    int rank = -1, nth = 1, used = 0;
+    int n = sscanf(v, "%d:%31[a-z]%n", &rank, name, &used);
+    if (n == 2 && v[used] == ':') {
+        char *end = NULL;
+        long k = strtol(v + used + 1, &end, 10);
+        nth = end && !*end && k >= 1 && k <= 1000000 ? (int)k : -1;
+        used = (int)strlen(v);
+    }
+    sw.bad = n != 2 || rank < 0 || nth < 1 || v[used] != '\0';
+    for (int p = 0; p < NPHASE && !sw.bad; p++)
+        if (!strcmp(name, phases[p])) sw.phase = p;
+    if (sw.phase < 0) sw.bad = 1;
+    sw.rank = rank, sw.nth = nth;
+}
+
+hx_status hx_fault_point(const char *phase, MPI_Comm comm)
+{
+    if (!sw.parsed) parse_switch();
+    if (!sw.text[0]) return HX_OK;
+    if (sw.bad)
+        return hx_error_set(HX_ERR_ARG, "HELMIX_FAULT=%s: write RANK:PHASE or RANK:PHASE:N with PHASE one of alloc, "
+                                        "plan, create, write, close, rename, xdmf, verify (a switch for tests)", sw.text);
+    int p = 0, rank = 0;
+    while (p < NPHASE && strcmp(phase, phases[p])) p++;
+    if (p == NPHASE || p != sw.phase || MPI_Comm_rank(comm, &rank) != MPI_SUCCESS || rank != sw.rank) return HX_OK;
+    if (++sw.passes[p] != sw.nth) return HX_OK;
+    return hx_error_set(HX_ERR_IO, "injected fault: rank %d failed in phase '%s' (pass %d) as HELMIX_FAULT=%s asks",
+                        rank, phase, sw.nth, sw.text);
+}
+
+int hx_fault_no_reserve(void)
+{
+    const char *v = getenv("HELMIX_NO_RESERVE");
+    return v && !strcmp(v, "1");
+}
+
+/* The guarded names. A slot's name is written while the slot is unused and signals that use it
+ * are blocked, and only then marked used. */
+static char guard_path[HX_FAULT_GUARDS][HX_PATH_MAX + 64];
+static volatile sig_atomic_t guard_used[HX_FAULT_GUARDS];
+static const int caught[] = {SIGINT, SIGTERM, SIGHUP, SIGXCPU};
+#define NCAUGHT ((int)(sizeof caught / sizeof caught[0]))
+
+static void block(sigset_t *old)
+{
+    sigset_t s;
+    sigemptyset(&s);
+    for (int i = 0; i < NCAUGHT; i++) sigaddset(&s, caught[i]);
+    sigprocmask(SIG_BLOCK, &s, old);
+}
+
+int hx_fault_guard_add(const char *path)
+{
+    if (!path || strlen(path) >= sizeof guard_path[0]) return -1;
+    sigset_t old;
+    block(&old);
+    int slot = -1;
+    for (int i = 0; i < HX_FAULT_GUARDS && slot < 0; i++)
+        if (!guard_used[i]) slot = i;
+    if (slot >= 0) {
+        memcpy(guard_path[slot], path, strlen(path) + 1);
+        guard_used[slot] = 1;
+    }
+    sigprocmask(SIG_SETMASK, &old, NULL);
+    return slot >= 0 ? 0 : -1;
+}
+
+void hx_fault_guard_remove(const char *path)
+{
+    if (!path) return;
+    sigset_t old;
+    block(&old);
+    for (int i = 0; i < HX_FAULT_GUARDS; i++)
+        if (guard_used[i] && !strcmp(guard_path[i], path)) guard_used[i] = 0;
+    sigprocmask(SIG_SETMASK, &old, NULL);
+}
+
+static void on_signal(int sig)
+{
+    for (int i = 0; i < HX_FAULT_GUARDS; i++)
+        if (guard_used[i]) unlink(guard_path[i]);
+    signal(sig, SIG_DFL);
+    raise(sig); /* delivered on return: the process ends as killed by sig */
+}
+
+void hx_fault_install_handlers(void)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_signal;
+    sigemptyset(&sa.sa_mask);
+    for (int i = 0; i < NCAUGHT; i++) sigaddset(&sa.sa_mask, caught[i]); /* one handler at a time */
+    for (int i = 0; i < NCAUGHT; i++) sigaction(caught[i], &sa, NULL);
+}
