@@ -1,21 +1,31 @@
 /* io.c — collective parallel-HDF5 output in the Grid Data Format layout, provenance
- * attributes, atomic rename and the XDMF sidecar.
+ * attributes, checksums, atomic rename and the XDMF sidecar.
  * Invariant: metadata calls (create, attributes) are made by every rank with identical
  * arguments; raw data goes through collective transfers where ranks without data select
- * nothing; only rank 0 touches the file system by name (exists, rename, unlink, .xmf). */
+ * nothing; every result that can differ between ranks (a write, a close, a rename) is agreed
+ * before the next collective; only rank 0 touches the file system by name (lock, rename,
+ * unlink, .xmf). A failed file is closed after its space is given back, then removed. */
+#define _GNU_SOURCE
 #include "helmix/io.h"
 
+#include <errno.h>
+#include <fcntl.h>
 #include <hdf5.h>
 #include <math.h>
+#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <sys/statvfs.h>
 #include <time.h>
 #include <unistd.h>
 
 #include "check.h"
+#include "helmix/fault.h"
 #include "helmix/schema.h"
+#include "io_claim.h"
+#include "io_digest.h"
 #include "io_tuning.h"
 #include "helmix/version.h"
 
@@ -26,6 +36,8 @@ typedef struct io_field {
     int face; /* staggering: 0 cell centres, 1 low faces */
     char unit[64];
     hid_t dset[3];
+    uint64_t digest[3]; /* this rank's part of each component's checksum (io_digest.h) */
+    int written[3];
 } io_field;
 
 struct hx_io {
@@ -39,24 +51,44 @@ struct hx_io {
     int created; /* the partial file exists: close must remove or rename it */
     io_tuning tune; /* alignment and MPI-IO hints, for create and resume alike */
     int64_t transfers[2]; /* field writes HDF5 did collectively, and independently */
-    char path[HX_PATH_MAX];
-    char partial[HX_PATH_MAX + 16];
+    double reserved;      /* rank 0: bytes of the partial file reserved in advance */
+    int unreserved;       /* every rank: some space could not be reserved (no fallocate here) */
+    io_claim claim;       /* the names, the lock and the partial file */
 };
+
+/* Rank 0: can FILE be written where it is named? One line when not. */
+static hx_status target_local(const char *path, int force)
+{
+    hx_status st = HX_OK;
+    struct stat sb;
+    char dir[HX_PATH_MAX], msg[1024];
+    HX_TRY(io_claim_check_name(path));
+    const char *slash = strrchr(path, '/');
+    if (!slash) snprintf(dir, sizeof dir, ".");
+    else snprintf(dir, sizeof dir, "%.*s", slash == path ? 1 : (int)(slash - path), path);
+    if (stat(dir, &sb) != 0)
+        HX_FAIL(HX_ERR_ARG, "cannot write %s: directory %s: %s", path, dir, strerror(errno));
+    if (!S_ISDIR(sb.st_mode)) HX_FAIL(HX_ERR_ARG, "cannot write %s: %s is not a directory", path, dir);
+    if (access(dir, W_OK | X_OK) != 0)
+        HX_FAIL(HX_ERR_ARG, "cannot write %s: directory %s is not writable (%s)", path, dir, strerror(errno));
+    if (stat(path, &sb) == 0) {
+        if (S_ISDIR(sb.st_mode)) HX_FAIL(HX_ERR_ARG, "output %s is a directory: give a file name", path);
+        if (!S_ISREG(sb.st_mode)) HX_FAIL(HX_ERR_ARG, "output %s exists and is not a regular file", path);
+        if (!force) HX_FAIL(HX_ERR_EXISTS, "output %s exists: choose another name or pass --force to replace it", path);
+    }
+    if (io_claim_busy(path, msg, sizeof msg)) HX_FAIL(HX_ERR_EXISTS, "%s", msg);
+fail:
+    return st;
+}
 
 hx_status hx_io_check_target(const char *path, int force, MPI_Comm comm)
 {
     hx_status st = HX_OK;
-    int rank = 0, exists = 0;
+    int rank = 0;
     HX_MPI(MPI_Comm_rank(comm, &rank));
-    if (rank == 0) {
-        struct stat sb;
-        exists = stat(path, &sb) == 0;
-    }
-    HX_MPI(MPI_Bcast(&exists, 1, MPI_INT, 0, comm));
-    if (exists && !force) HX_FAIL(HX_ERR_EXISTS, "output %s exists: choose another name or pass --force to replace it", path);
-    return HX_OK;
+    if (rank == 0) st = target_local(path, force);
 fail:
-    return st;
+    return hx_error_agree(comm, st);
 }
 
 /* Open group `path`, creating it (and its parents) on first use. Collective. */
@@ -125,7 +157,8 @@ static hx_status small_dataset(hx_io *w, hid_t loc, const char *name, hid_t ftyp
     HX_H5(space, H5Screate_simple(rank_, dims, NULL));
     HX_H5(dset, H5Dcreate2(loc, name, ftype, space, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
     if (w->rank != 0) HX_H5OK(H5Sselect_none(space));
-    HX_H5OK(H5Dwrite(dset, mtype, space, space, H5P_DEFAULT, buf));
+    if (H5Dwrite(dset, mtype, space, space, H5P_DEFAULT, buf) < 0)
+        HX_FAIL(HX_ERR_IO, "writing %s to %s failed (disk full or quota?)", name, w->claim.partial);
 fail:
     if (dset >= 0) H5Dclose(dset);
     if (space >= 0) H5Sclose(space);
@@ -185,6 +218,47 @@ fail:
     return st;
 }
 
+/* Room for the metadata that follows the datasets: attributes, tables, the recipe text. */
+#define RESERVE_MARGIN ((double)(4u << 20))
+
+/* Collective: reserve the file's space so far (its datasets are allocated when created, as
+ * parallel HDF5 does) plus a margin, without changing its size, so that a full disk shows now,
+ * and neither a field write nor HDF5's metadata flush at close meets it later. File systems
+ * without fallocate reserve nothing; the writes are agreed either way. */
+static hx_status reserve(hx_io *w)
+{
+    hx_status st = HX_OK;
+    if (w->rank == 0 && w->claim.datafd >= 0 && !hx_fault_no_reserve()) {
+        double size = 0; /* the end of the last field dataset (contiguous, allocated when created) */
+        for (int i = 0; i < w->nfield; i++)
+            for (int c = 0; c < w->field[i].ncomp; c++) {
+                haddr_t at = w->field[i].dset[c] >= 0 ? H5Dget_offset(w->field[i].dset[c]) : HADDR_UNDEF;
+                double end = (double)at + (double)H5Dget_storage_size(w->field[i].dset[c]);
+                if (at != HADDR_UNDEF && end > size) size = end;
+            }
+        double want = (double)size + RESERVE_MARGIN;
+        if (want > w->reserved) {
+            int rc;
+            do rc = fallocate(w->claim.datafd, FALLOC_FL_KEEP_SIZE, 0, (off_t)want);
+            while (rc != 0 && errno == EINTR);
+            if (rc == 0) w->reserved = want;
+            else if (errno != ENOSPC && errno != EDQUOT && errno != EFBIG) w->unreserved = 1;
+            else {
+                int err = errno;
+                struct statvfs fs;
+                double avail = fstatvfs(w->claim.datafd, &fs) == 0 ? (double)fs.f_bavail * (double)fs.f_frsize : NAN;
+                st = hx_error_set(HX_ERR_IO, "no room for %s: it needs %.1f MiB and the file system has %.1f MiB "
+                                  "free (%s)", w->claim.partial, want / 1048576.0, avail / 1048576.0, strerror(err));
+            } /* EOPNOTSUPP and the like: nothing reserved, so the file is read back before it is renamed */
+        }
+    }
+    if (w->rank == 0 && hx_fault_no_reserve()) w->unreserved = 1;
+    HX_TRY(hx_error_agree(w->comm, st));
+    HX_MPI(MPI_Bcast(&w->unreserved, 1, MPI_INT, 0, w->comm));
+fail:
+    return st;
+}
+
 hx_status hx_io_add_field(hx_io *w, const char *name, int ncomp, const char *unit, int face, int *id)
 {
     hx_status st = HX_OK;
@@ -223,7 +297,8 @@ fail:
     if (space >= 0) H5Sclose(space);
     if (types >= 0) H5Gclose(types);
     if (grp >= 0) H5Gclose(grp);
-    return st;
+    st = hx_error_agree(w->comm, st);
+    return st == HX_OK ? reserve(w) : st;
 }
 
 /* A scalar dataset /dataset_units/NAME holding value, with its unit as an attribute: where
@@ -257,7 +332,7 @@ hx_status hx_io_units(hx_io *w, double length_cm, double mass_g, double time_s)
                         "gauss"));
 fail:
     if (grp >= 0) H5Gclose(grp);
-    return st;
+    return hx_error_agree(w->comm, st); /* rank 0 alone writes the values */
 }
 
 hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_precision prec, const hx_io_tuning *tuning,
@@ -266,25 +341,29 @@ hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_preci
     hx_status st = HX_OK;
     hid_t fapl = -1;
     hx_io *w = NULL;
-    HX_ALLOC(w, 1);
+    w = calloc(1, sizeof *w);
+    HX_TRY(hx_error_agree(comm, w ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for the output handle")));
     w->file = -1;
     w->comm = comm;
     w->g = *g;
     w->prec = prec;
+    w->claim.dirfd = w->claim.lockfd = w->claim.datafd = -1;
     HX_MPI(MPI_Comm_rank(comm, &w->rank));
-    if (strlen(path) >= sizeof w->path) HX_FAIL(HX_ERR_ARG, "output path is longer than %d characters", HX_PATH_MAX - 1);
-    snprintf(w->path, sizeof w->path, "%s", path);
-    snprintf(w->partial, sizeof w->partial, "%s.partial", path);
     /* Align what is worth aligning: every field dataset (one component, N^3 values, is the
      * smallest of them) and nothing smaller, so headers, attributes and tables stay packed
      * instead of each taking a whole alignment unit. */
     hsize_t component = (hsize_t)g->n[0] * (hsize_t)g->n[1] * (hsize_t)g->n[2] * (prec == HX_PREC_DOUBLE ? 8u : 4u);
-    HX_TRY(io_tuning_init(&w->tune, tuning, component));
-    HX_H5(fapl, io_tuning_fapl(&w->tune, comm));
-    w->file = H5Fcreate(w->partial, H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
-    if (w->file < 0) HX_FAIL(HX_ERR_ARG, "cannot create %s (does the directory exist and is it writable?)", w->partial);
-    w->created = 1;
-    HX_TRY(write_gdf_skeleton(w));
+    HX_TRY(hx_error_agree(comm, io_tuning_init(&w->tune, tuning, component)));
+    HX_TRY(io_claim_take(&w->claim, path, comm));
+    w->created = 1; /* from here on hx_io_close removes the partial file and the lock */
+    st = hx_fault_point("create", comm);
+    if (st == HX_OK && (fapl = io_tuning_fapl(&w->tune, comm)) < 0) st = HX_ERR_HDF5;
+    if (st == HX_OK) {
+        w->file = H5Fcreate(w->claim.mpiname, H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
+        if (w->file < 0) st = hx_error_set(HX_ERR_IO, "cannot create %s through MPI-IO", w->claim.partial);
+    }
+    HX_TRY(hx_error_agree(comm, st));
+    HX_TRY(hx_error_agree(comm, write_gdf_skeleton(w)));
     H5Pclose(fapl);
     *out = w;
     return HX_OK;
@@ -294,19 +373,25 @@ fail:
     return st;
 }
 
-/* One collective MPI-IO transfer of a selection; counts whether HDF5 really did it
- * collectively (it falls back to independent I/O on its own, e.g. when it converts types). */
-static hx_status transfer(hx_io *w, hid_t dset, const char *comp, hid_t mtype, hid_t mspace, hid_t fspace, const void *buf)
+/* One collective MPI-IO transfer of a selection, entered by every rank or by none (`prep`, this
+ * rank's preparation, is agreed first) and agreed after: MPI-IO may report a failed write on
+ * the aggregating ranks only. Counts whether HDF5 really did it collectively (it falls back to
+ * independent I/O on its own, e.g. when it converts types). */
+static hx_status transfer(hx_io *w, hx_status prep, hid_t dset, const char *comp, hid_t mtype, hid_t mspace,
+                          hid_t fspace, const void *buf)
 {
-    hx_status st = HX_OK;
+    hx_status st = prep;
     hid_t dxpl = -1;
     H5D_mpio_actual_io_mode_t mode = H5D_MPIO_NO_COLLECTIVE;
-    HX_H5(dxpl, H5Pcreate(H5P_DATASET_XFER));
-    HX_H5OK(H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE));
+    if (st == HX_OK && ((dxpl = H5Pcreate(H5P_DATASET_XFER)) < 0 || H5Pset_dxpl_mpio(dxpl, H5FD_MPIO_COLLECTIVE) < 0))
+        st = hx_error_set(HX_ERR_HDF5, "cannot set up a collective transfer of %s", comp);
+    HX_TRY(hx_error_agree(w->comm, st));
     if (H5Dwrite(dset, mtype, mspace, fspace, dxpl, buf) < 0)
-        HX_FAIL(HX_ERR_HDF5, "collective write of %s to %s failed (disk full or quota?)", comp, w->partial);
-    HX_H5OK(H5Pget_mpio_actual_io_mode(dxpl, &mode));
-    w->transfers[mode == H5D_MPIO_NO_COLLECTIVE ? 1 : 0]++;
+        st = hx_error_set(HX_ERR_IO, "writing %s to %s failed (disk full or quota?)", comp, w->claim.partial);
+    else if (H5Pget_mpio_actual_io_mode(dxpl, &mode) >= 0)
+        w->transfers[mode == H5D_MPIO_NO_COLLECTIVE ? 1 : 0]++;
+    if (st == HX_OK) st = hx_fault_point("write", w->comm);
+    st = hx_error_agree(w->comm, st);
 fail:
     if (dxpl >= 0) H5Pclose(dxpl);
     return st;
@@ -338,36 +423,59 @@ fail:
  * written collectively; a rank with fewer rows joins the remaining transfers selecting nothing. */
 #define CONVERT_BYTES ((size_t)4 << 20)
 
-static hx_status write_rounded(hx_io *w, hid_t dset, const char *comp, const double *slab)
+static hx_status write_rounded(hx_io *w, io_field *fd, int c, const char *comp, const double *slab)
 {
     hx_status st = HX_OK;
-    hid_t fspace = -1, mspace = -1;
+    hid_t fspace = -1, mspace = -1, dset = fd->dset[c];
     float *buf = NULL;
     const hx_grid *g = &w->g;
     const hsize_t nx = (hsize_t)g->n[0], rows = (hsize_t)g->nz * (hsize_t)g->n[1];
     hsize_t per = CONVERT_BYTES / (nx * sizeof(float));
     if (per < 1) per = 1;
     long long runs = (long long)((rows + per - 1) / per), most = 0;
+    uint64_t digest = 0;
     buf = malloc((size_t)(per * nx) * sizeof *buf);
     HX_TRY(hx_error_agree(w->comm, buf ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for %zu MiB of rounding buffer",
                                                                  CONVERT_BYTES >> 20)));
     HX_MPI(MPI_Allreduce(&runs, &most, 1, MPI_LONG_LONG, MPI_MAX, w->comm));
-    HX_H5(fspace, H5Dget_space(dset));
+    hx_status prep = (fspace = H5Dget_space(dset)) >= 0 ? HX_OK : hx_error_set(HX_ERR_HDF5, "H5Dget_space failed");
     for (long long i = 0; i < most; i++) {
         hsize_t a = (hsize_t)i * per < rows ? (hsize_t)i * per : rows, b = a + per < rows ? a + per : rows, n = (b - a) * nx;
         for (hsize_t j = 0; j < n; j++) buf[j] = (float)slab[a * nx + j];
-        HX_TRY(select_rows(fspace, g, a, b));
+        if (prep == HX_OK) prep = select_rows(fspace, g, a, b);
         hsize_t mdim = n > 0 ? n : 1;
-        HX_H5(mspace, H5Screate_simple(1, &mdim, NULL));
-        if (n == 0) HX_H5OK(H5Sselect_none(mspace));
-        HX_TRY(transfer(w, dset, comp, H5T_NATIVE_FLOAT, mspace, fspace, buf));
+        if (prep == HX_OK && (mspace = H5Screate_simple(1, &mdim, NULL)) < 0) prep = hx_error_set(HX_ERR_HDF5, "H5Screate_simple failed");
+        if (prep == HX_OK && n == 0 && H5Sselect_none(mspace) < 0) prep = hx_error_set(HX_ERR_HDF5, "H5Sselect_none failed");
+        HX_TRY(transfer(w, prep, dset, comp, H5T_NATIVE_FLOAT, mspace, fspace, buf));
+        digest += io_digest_add(buf, (size_t)n, sizeof(float), ((uint64_t)g->z0 * (uint64_t)g->n[1] + a) * nx);
         H5Sclose(mspace);
         mspace = -1;
     }
+    fd->digest[c] = digest;
+    fd->written[c] = 1;
 fail:
     free(buf);
     if (mspace >= 0) H5Sclose(mspace);
     if (fspace >= 0) H5Sclose(fspace);
+    return st;
+}
+
+/* This rank's preparation of a whole-slab transfer (local: its result is agreed by transfer). */
+static hx_status select_slab(const hx_grid *g, hid_t dset, hid_t *fspace, hid_t *mspace)
+{
+    hx_status st = HX_OK;
+    hsize_t start[3] = {(hsize_t)g->z0, 0, 0}, count[3] = {(hsize_t)g->nz, (hsize_t)g->n[1], (hsize_t)g->n[0]};
+    hsize_t one = 1;
+    HX_H5(*fspace, H5Dget_space(dset));
+    if (g->nz > 0) {
+        HX_H5OK(H5Sselect_hyperslab(*fspace, H5S_SELECT_SET, start, NULL, count, NULL));
+        HX_H5(*mspace, H5Screate_simple(3, count, NULL));
+    } else {
+        HX_H5OK(H5Sselect_none(*fspace));
+        HX_H5(*mspace, H5Screate_simple(1, &one, NULL));
+        HX_H5OK(H5Sselect_none(*mspace));
+    }
+fail:
     return st;
 }
 
@@ -376,24 +484,18 @@ static hx_status write_slab(hx_io *w, int id, int c, const void *slab, hid_t mty
     hx_status st = HX_OK;
     hid_t fspace = -1, mspace = -1;
     const hx_grid *g = &w->g;
-    hsize_t start[3] = {(hsize_t)g->z0, 0, 0}, count[3] = {(hsize_t)g->nz, (hsize_t)g->n[1], (hsize_t)g->n[0]};
-    hsize_t one = 1;
+    /* the same arguments on every rank: a refusal here is the same everywhere */
     if (id < 0 || id >= w->nfield || c < 0 || c >= w->field[id].ncomp)
-        HX_FAIL(HX_ERR_ARG, "no field %d component %d in %s", id, c, w->partial);
-    hid_t dset = w->field[id].dset[c];
+        HX_FAIL(HX_ERR_ARG, "no field %d component %d in %s", id, c, w->claim.partial);
+    io_field *fd = &w->field[id];
     char comp[64];
-    hx_schema_component(comp, sizeof comp, w->field[id].name, w->field[id].ncomp, c);
-    if (mtype == H5T_NATIVE_DOUBLE && w->prec != HX_PREC_DOUBLE) return write_rounded(w, dset, comp, slab);
-    HX_H5(fspace, H5Dget_space(dset));
-    if (g->nz > 0) {
-        HX_H5OK(H5Sselect_hyperslab(fspace, H5S_SELECT_SET, start, NULL, count, NULL));
-        HX_H5(mspace, H5Screate_simple(3, count, NULL));
-    } else {
-        HX_H5OK(H5Sselect_none(fspace));
-        HX_H5(mspace, H5Screate_simple(1, &one, NULL));
-        HX_H5OK(H5Sselect_none(mspace));
-    }
-    HX_TRY(transfer(w, dset, comp, mtype, mspace, fspace, slab));
+    hx_schema_component(comp, sizeof comp, fd->name, fd->ncomp, c);
+    if (mtype == H5T_NATIVE_DOUBLE && w->prec != HX_PREC_DOUBLE) return write_rounded(w, fd, c, comp, slab);
+    hx_status prep = select_slab(g, fd->dset[c], &fspace, &mspace);
+    HX_TRY(transfer(w, prep, fd->dset[c], comp, mtype, mspace, fspace, slab));
+    fd->digest[c] = io_digest_add(slab, (size_t)g->nz * (size_t)g->n[1] * (size_t)g->n[0],
+                                  w->prec == HX_PREC_DOUBLE ? 8 : 4, (uint64_t)g->z0 * (uint64_t)g->n[1] * (uint64_t)g->n[0]);
+    fd->written[c] = 1;
 fail:
     if (mspace >= 0) H5Sclose(mspace);
     if (fspace >= 0) H5Sclose(fspace);
@@ -410,11 +512,21 @@ hx_status hx_io_write_doubles(hx_io *w, int id, int c, const double *slab)
     return write_slab(w, id, c, slab, H5T_NATIVE_DOUBLE);
 }
 
-const char *hx_io_partial(const hx_io *w) { return w->partial; }
+const char *hx_io_partial(const hx_io *w) { return w->claim.mpiname; }
 
-hx_status hx_io_pause(hx_io *w)
+const char *hx_io_note(const hx_io *w) { return w->claim.note[0] ? w->claim.note : NULL; }
+
+/* Collective: close the datasets and the file, agreed. abandon = 1 (the file is to be removed):
+ * rank 0 first gives the file's space back (truncating it to 0 bytes) and every rank waits for
+ * that, so HDF5's flush of its metadata at close finds room even on a full disk and no rank
+ * fails inside the collective close while the others wait in it. */
+static hx_status file_close(hx_io *w, int abandon)
 {
     hx_status st = HX_OK;
+    if (abandon) {
+        if (w->rank == 0 && w->claim.datafd >= 0 && ftruncate(w->claim.datafd, 0) != 0) { /* then close as it is */ }
+        MPI_Barrier(w->comm);
+    }
     for (int i = 0; i < w->nfield; i++)
         for (int c = 0; c < 3; c++) {
             if (w->field[i].dset[c] >= 0 && H5Dclose(w->field[i].dset[c]) < 0 && st == HX_OK)
@@ -422,18 +534,21 @@ hx_status hx_io_pause(hx_io *w)
             w->field[i].dset[c] = -1;
         }
     if (w->file >= 0 && H5Fclose(w->file) < 0 && st == HX_OK)
-        st = hx_error_set(HX_ERR_HDF5, "closing %s failed (disk full?)", w->partial);
+        st = hx_error_set(HX_ERR_IO, "closing %s failed (disk full or quota?)", w->claim.partial);
     w->file = -1;
+    if (!abandon && st == HX_OK) st = hx_fault_point("close", w->comm);
     return hx_error_agree(w->comm, st);
 }
+
+hx_status hx_io_pause(hx_io *w) { return file_close(w, 0); }
 
 hx_status hx_io_resume(hx_io *w)
 {
     hx_status st = HX_OK;
     hid_t fapl = -1;
     HX_H5(fapl, io_tuning_fapl(&w->tune, w->comm));
-    w->file = H5Fopen(w->partial, H5F_ACC_RDWR, fapl);
-    if (w->file < 0) HX_FAIL(HX_ERR_HDF5, "cannot reopen %s", w->partial);
+    w->file = H5Fopen(w->claim.mpiname, H5F_ACC_RDWR, fapl);
+    if (w->file < 0) HX_FAIL(HX_ERR_HDF5, "cannot reopen %s", w->claim.partial);
     for (int i = 0; i < w->nfield; i++)
         for (int c = 0; c < w->field[i].ncomp; c++) {
             char path[128];
@@ -453,7 +568,7 @@ hx_status hx_io_attr_string(hx_io *w, const char *group, const char *name, const
     st = str_attr(grp, name, value);
 fail:
     if (grp >= 0) H5Gclose(grp);
-    return st;
+    return hx_error_agree(w->comm, st); /* a metadata flush may fail on one rank */
 }
 
 static hx_status numeric_attr(hx_io *w, const char *group, const char *name, hid_t ft, hid_t mt, const void *v, int n)
@@ -464,7 +579,7 @@ static hx_status numeric_attr(hx_io *w, const char *group, const char *name, hid
     st = attr_write(grp, name, ft, mt, v, n);
 fail:
     if (grp >= 0) H5Gclose(grp);
-    return st;
+    return hx_error_agree(w->comm, st);
 }
 
 hx_status hx_io_attr_doubles(hx_io *w, const char *group, const char *name, const double *v, int n)
@@ -505,7 +620,7 @@ hx_status hx_io_table(hx_io *w, const char *group, const char *name, const doubl
     st = small_dataset(w, grp, name, H5T_IEEE_F64LE, H5T_NATIVE_DOUBLE, 1, &dim, v);
 fail:
     if (grp >= 0) H5Gclose(grp);
-    return st;
+    return hx_error_agree(w->comm, st); /* rank 0 alone writes the values */
 }
 
 /* One HDF5 data item of the sidecar. */
@@ -520,12 +635,10 @@ static void xdmf_item(FILE *fp, const hx_io *w, const char *base, const char *co
 
 /* XDMF 3 sidecar: cell-centred fields on a uniform (co-rectilinear) mesh, each vector also as
  * its components. Rank 0 only. */
-static hx_status write_xdmf(const hx_io *w)
+static hx_status write_xdmf(const hx_io *w, const char *xmf)
 {
-    char xmf[HX_PATH_MAX + 8];
-    snprintf(xmf, sizeof xmf, "%s.xmf", w->path);
-    const char *base = strrchr(w->path, '/');
-    base = base ? base + 1 : w->path;
+    const char *base = strrchr(w->claim.path, '/');
+    base = base ? base + 1 : w->claim.path;
     const hx_grid *g = &w->g;
     FILE *fp = fopen(xmf, "w");
     if (!fp) return hx_error_set(HX_ERR_IO, "cannot write %s", xmf);
@@ -588,33 +701,106 @@ static hx_status write_xdmf(const hx_io *w)
     return HX_OK;
 }
 
-hx_status hx_io_close(hx_io **wp, int commit)
+/* Collective: the checksum of every component written, reduced over ranks, as attributes of
+ * its dataset. */
+static hx_status write_checksums(hx_io *w)
 {
     hx_status st = HX_OK;
+    uint64_t sum[HX_IO_MAX_FIELDS * 3];
+    for (int i = 0; i < HX_IO_MAX_FIELDS; i++)
+        for (int c = 0; c < 3; c++) sum[3 * i + c] = i < w->nfield ? w->field[i].digest[c] : 0;
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, sum, HX_IO_MAX_FIELDS * 3, MPI_UINT64_T, MPI_SUM, w->comm));
+    for (int i = 0; i < w->nfield; i++)
+        for (int c = 0; c < w->field[i].ncomp; c++) {
+            if (!w->field[i].written[c] || w->field[i].dset[c] < 0) continue;
+            HX_TRY(attr_write(w->field[i].dset[c], HX_IO_ATTR_CHECKSUM, H5T_STD_U64LE, H5T_NATIVE_UINT64, &sum[3 * i + c], 0));
+            HX_TRY(str_attr(w->field[i].dset[c], HX_IO_ATTR_CHECKSUM_METHOD, IO_DIGEST_METHOD));
+        }
+fail:
+    return st;
+}
+
+/* Signals that would end the process between the two renames of publish. */
+static void hold_signals(int on, sigset_t *old)
+{
+    sigset_t s;
+    sigemptyset(&s);
+    sigaddset(&s, SIGINT), sigaddset(&s, SIGTERM), sigaddset(&s, SIGHUP);
+    if (on) sigprocmask(SIG_BLOCK, &s, old);
+    else sigprocmask(SIG_SETMASK, old, NULL);
+}
+
+/* Collective, after a successful close: the sidecar (as FILE.xmf.partial), then both renamed
+ * into place by rank 0, each step agreed; a failure leaves neither FILE nor FILE.xmf of this run. */
+static hx_status publish(hx_io *w)
+{
+    hx_status st = hx_fault_point("xdmf", w->comm);
+    io_claim *c = &w->claim;
+    if (st == HX_OK && w->rank == 0) {
+        hx_fault_guard_add(c->xmf_partial);
+        st = write_xdmf(w, c->xmf_partial);
+        struct stat sb; /* give back what was reserved beyond the end of the file */
+        if (st == HX_OK && c->datafd >= 0 && fstat(c->datafd, &sb) == 0 && w->reserved > (double)sb.st_size &&
+            fallocate(c->datafd, FALLOC_FL_PUNCH_HOLE | FALLOC_FL_KEEP_SIZE, sb.st_size,
+                      (off_t)(w->reserved - (double)sb.st_size)) != 0) { /* only space, never data */ }
+    }
+    HX_TRY(hx_error_agree(w->comm, st));
+    st = hx_fault_point("rename", w->comm);
+    if (st == HX_OK && w->rank == 0) {
+        sigset_t old;
+        hold_signals(1, &old);
+        if (rename(c->partial, c->path) != 0)
+            st = hx_error_set(HX_ERR_IO, "cannot rename %s to %s: %s", c->partial, c->path, strerror(errno));
+        else if (rename(c->xmf_partial, c->xmf) != 0) {
+            st = hx_error_set(HX_ERR_IO, "cannot rename %s to %s: %s (the cube is removed too)", c->xmf_partial, c->xmf,
+                              strerror(errno));
+            unlink(c->path);
+        }
+        if (st == HX_OK) {
+            hx_fault_guard_remove(c->partial);
+            hx_fault_guard_remove(c->xmf_partial);
+        }
+        hold_signals(0, &old);
+    }
+    HX_TRY(hx_error_agree(w->comm, st));
+fail:
+    return st;
+}
+
+hx_status hx_io_close(hx_io **wp, int commit)
+{
     if (!wp || !*wp) return HX_OK;
     hx_io *w = *wp;
-    for (int i = 0; i < w->nfield; i++)
-        for (int c = 0; c < 3; c++)
-            if (w->field[i].dset[c] >= 0 && H5Dclose(w->field[i].dset[c]) < 0 && st == HX_OK)
-                st = hx_error_set(HX_ERR_HDF5, "closing the datasets of %s failed", w->field[i].name);
-    if (w->file >= 0 && H5Fclose(w->file) < 0 && st == HX_OK)
-        st = hx_error_set(HX_ERR_HDF5, "closing %s failed (data may be incomplete)", w->partial);
+    hx_status st = HX_OK;
+    char before[1024]; /* cleaning up after a failure keeps that failure's message */
+    snprintf(before, sizeof before, "%s", hx_error_message());
+    if (w->file >= 0) {
+        if (commit) st = hx_error_agree(w->comm, write_checksums(w));
+        hx_status cl = file_close(w, !commit || st != HX_OK);
+        if (st == HX_OK) st = cl;
+    }
+    if (w->created && commit && st == HX_OK && w->unreserved) {
+        /* MPI-IO may lose a failed write on a full disk (Open MPI 4.1 does, on its aggregating
+         * ranks): without reserved space the checksums must be found again in the file */
+        hx_io_verify_counts n;
+        st = hx_io_verify(w->claim.partial, w->comm, NULL, &n);
+        if (st == HX_OK && (n.bad > 0 || n.missing > 0))
+            st = hx_error_set(HX_ERR_IO, "%s does not hold what was written (%d of %d datasets differ when read "
+                              "back): the file system lost data (disk full or quota?)", w->claim.partial, n.bad + n.missing,
+                              n.datasets);
+    }
     if (w->created) {
-        /* Everyone has closed before rank 0 renames; the verdict is shared. */
-        hx_status agreed = hx_error_agree(w->comm, st);
-        if (w->rank == 0) {
-            if (commit && agreed == HX_OK) {
-                if (rename(w->partial, w->path) != 0)
-                    st = hx_error_set(HX_ERR_IO, "cannot rename %s to %s", w->partial, w->path);
-                else st = write_xdmf(w);
-            } else
-                unlink(w->partial);
+        int keep = commit && st == HX_OK;
+        if (keep) st = publish(w);
+        if (w->rank == 0 && !(keep && st == HX_OK)) {
+            unlink(w->claim.partial);
+            unlink(w->claim.xmf_partial);
         }
-        hx_status final = hx_error_agree(w->comm, st);
-        if (st == HX_OK) st = final;
+        io_claim_release(&w->claim);
     }
     io_tuning_free(&w->tune);
     free(w);
     *wp = NULL;
+    if (!commit) hx_error_set(HX_OK, "%s", before);
     return st;
 }

@@ -766,6 +766,7 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     hx_log_say(log, HX_LOG_INFO, "plan: done in %.2f s", R.res.t_plan);
 
     HX_TRY(hx_io_create(&R.io, r->file, &R.g, r->precision, &(hx_io_tuning){r->alignment, r->io_hints}, comm));
+    if (hx_io_note(R.io)) hx_log_say(log, HX_LOG_QUIET, "warning: %s", hx_io_note(R.io)); /* a stale partial */
     HX_TRY(hx_io_units(R.io, r->code.length, r->code.mass, r->code.time));
     HX_TRY(hx_io_add_field(R.io, HX_FIELD_VELOCITY, 3, "code_length/code_time", 0, &R.vel_id));
     if (r->density_model != HX_DENSITY_NONE) {

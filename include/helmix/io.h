@@ -5,12 +5,20 @@
  * Paths and names come from helmix/schema.h.
  *
  * The file is written as PATH.partial and renamed to PATH only by hx_io_close(commit = 1),
- * so a crashed or failed run never leaves a file that looks complete. */
+ * so a crashed or failed run never leaves a file that looks complete. While a run writes PATH,
+ * its rank 0 holds PATH.lock (created exclusively, flock): a second run on the same PATH is
+ * refused; a lock and partial file left by a killed run on this host are recognised as stale,
+ * removed and named in hx_io_note. When PATH.partial is too long for the MPI-IO layer the data
+ * go to a short hidden DIR/.hx-XXXXXX.partial (named in PATH.lock). Each written dataset
+ * carries a checksum (HX_IO_ATTR_CHECKSUM) that hx_io_verify recomputes. Every write, close
+ * and rename is agreed over the ranks; a failure removes the partial file on every path. */
 #ifndef HELMIX_IO_H
 #define HELMIX_IO_H
 
 #include <mpi.h>
+#include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 
 #include "helmix/error.h"
 #include "helmix/grid.h"
@@ -18,7 +26,10 @@
 
 typedef struct hx_io hx_io;
 
-/* Collective: HX_ERR_EXISTS (on every rank) when path exists and force is 0. */
+/* Collective, before any work: HX_ERR_EXISTS (on every rank) when path exists and force is 0,
+ * or another run is writing it (holds PATH.lock); HX_ERR_ARG when its directory is missing or
+ * not writable, path is a directory or not a regular file, or its name is too long for the
+ * names helmix derives from it (PATH.xmf.partial within the file system's name limit). */
 hx_status hx_io_check_target(const char *path, int force, MPI_Comm comm);
 
 #define HX_IO_MAX_FIELDS 8
@@ -82,8 +93,37 @@ hx_status hx_io_write_doubles(hx_io *w, int id, int c, const double *slab);
 hx_status hx_io_pause(hx_io *w);
 hx_status hx_io_resume(hx_io *w);
 
-/* The name of the file being written (PATH.partial). */
+/* The name under which every rank opens the file being written through MPI-IO (PATH.partial,
+ * or a short /proc/self/fd/N/... name of it when the path is long). */
 const char *hx_io_partial(const hx_io *w);
+
+/* What hx_io_create found and did on the way (a stale partial file of a killed run removed),
+ * for a warning line; NULL when nothing. Meaningful on rank 0. */
+const char *hx_io_note(const hx_io *w);
+
+/* The attributes of every field dataset written: the checksum (uint64) of its values and the
+ * text that defines it (src/io_digest.h: a sum over elements, so any rank count gives it). */
+#define HX_IO_ATTR_CHECKSUM "helmix_checksum"
+#define HX_IO_ATTR_CHECKSUM_METHOD "helmix_checksum_method"
+
+/* What hx_io_verify found: datasets of the grid group, those whose checksum matches, differs,
+ * or that carry none (an older file, or a partial file of a killed run). */
+typedef struct hx_io_verify_counts {
+    int datasets, ok, bad, missing;
+} hx_io_verify_counts;
+
+/* Collective: recompute the checksum of every 3-D float dataset in the grid group of the
+ * helmix file `path` (read collectively in bounded pieces) and compare it with the stored one.
+ * Rank 0 prints one line per dataset to `out` ("ok", "MISMATCH stored ... computed ...", "no
+ * checksum"; NULL: silent). HX_OK when every dataset could be read, whatever the verdict
+ * (counts says it); HX_ERR_ARG/HX_ERR_IO/HX_ERR_HDF5 when the file could not be read. */
+hx_status hx_io_verify(const char *path, MPI_Comm comm, FILE *out, hx_io_verify_counts *counts);
+
+/* Collective: a name under which every rank of comm can open `path` through MPI-IO (Open MPI
+ * aborts on file names of about 240 characters): path itself when short, else a
+ * /proc/self/fd/N/BASE name; *dirfd is then a descriptor the caller closes after the file
+ * (else -1). HX_ERR_ARG when even the file's own name is too long. */
+hx_status hx_io_mpi_name(const char *path, MPI_Comm comm, char *name, size_t len, int *dirfd);
 
 /* Collective: attributes of group `group` (created on first use, e.g. "/helmix" or
  * "/helmix/diagnostics"). Every rank passes the same values. */
@@ -95,9 +135,12 @@ hx_status hx_io_attr_uint64(hx_io *w, const char *group, const char *name, uint6
 /* Collective: a small 1-D double dataset `group/name` written by rank 0 (per-shell tables). */
 hx_status hx_io_table(hx_io *w, const char *group, const char *name, const double *v, int n);
 
-/* Collective: close the file. With commit = 1 rank 0 renames PATH.partial to PATH (replacing
- * it) and writes PATH.xmf; with commit = 0 the partial file is removed. Accepts NULL, sets
- * *w to NULL. Returns the first error met while closing. */
+/* Collective: close the file. With commit = 1 the checksums are written, the file closed,
+ * PATH.xmf written (as PATH.xmf.partial) and rank 0 renames both into place (replacing PATH);
+ * every step is agreed, and a failure in any leaves neither. With commit = 0 (after a failure)
+ * the file is abandoned: its space given back, closed, removed, and the message of the failure
+ * being cleaned up is kept. The lock is released either way. Accepts NULL, sets *w to NULL.
+ * Returns the first error met while closing. */
 hx_status hx_io_close(hx_io **w, int commit);
 
 #endif
