@@ -356,8 +356,8 @@ hx_status hx_io_create(hx_io **out, const char *path, const hx_grid *g, hx_preci
     HX_TRY(hx_error_agree(comm, io_tuning_init(&w->tune, tuning, component)));
     HX_TRY(io_claim_take(&w->claim, path, comm));
     w->created = 1; /* from here on hx_io_close removes the partial file and the lock */
-    st = hx_fault_point("create", comm);
-    if (st == HX_OK && (fapl = io_tuning_fapl(&w->tune, comm)) < 0) st = HX_ERR_HDF5;
+    HX_TRY(hx_error_agree(comm, hx_fault_point("create", comm))); /* before the collective open */
+    if ((fapl = io_tuning_fapl(&w->tune, comm)) < 0) st = HX_ERR_HDF5;
     if (st == HX_OK) {
         w->file = H5Fcreate(w->claim.mpiname, H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
         if (w->file < 0) st = hx_error_set(HX_ERR_IO, "cannot create %s through MPI-IO", w->claim.partial);
@@ -734,7 +734,7 @@ static void hold_signals(int on, sigset_t *old)
  * into place by rank 0, each step agreed; a failure leaves neither FILE nor FILE.xmf of this run. */
 static hx_status publish(hx_io *w)
 {
-    hx_status st = hx_fault_point("xdmf", w->comm);
+    hx_status st = hx_error_agree(w->comm, hx_fault_point("xdmf", w->comm));
     io_claim *c = &w->claim;
     if (st == HX_OK && w->rank == 0) {
         hx_fault_guard_add(c->xmf_partial);
@@ -745,8 +745,8 @@ static hx_status publish(hx_io *w)
                       (off_t)(w->reserved - (double)sb.st_size)) != 0) { /* only space, never data */ }
     }
     HX_TRY(hx_error_agree(w->comm, st));
-    st = hx_fault_point("rename", w->comm);
-    if (st == HX_OK && w->rank == 0) {
+    HX_TRY(hx_error_agree(w->comm, hx_fault_point("rename", w->comm))); /* rank 0 acts for all: agree first */
+    if (w->rank == 0) {
         sigset_t old;
         hold_signals(1, &old);
         if (rename(c->partial, c->path) != 0)
