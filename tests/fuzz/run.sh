@@ -51,8 +51,10 @@ for h in "${harnesses[@]}"; do
   [ "$short" = 1 ] && corpus="$build/corpus-short/$h" && rm -rf "$corpus"
   mkdir -p "$corpus"
   log="$build/$h.log"
+  dict=()
+  [ -f "$here/$h.dict" ] && dict=(-dict="$here/$h.dict") # section, key and value words
   # -max_len: a recipe is short; 8 KiB holds the longest seed with room to grow
-  if "$build/fuzz_$h" "$corpus" "$here/corpus/$h" -max_total_time="$seconds" -max_len=8192 -timeout=10 \
+  if "$build/fuzz_$h" "$corpus" "$here/corpus/$h" "${dict[@]}" -max_total_time="$seconds" -max_len=8192 -timeout=10 \
        -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build/findings/$h-" > "$log" 2>&1; then
     execs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log")
     cov=$(grep -o 'cov: [0-9]*' "$log" | tail -1)
