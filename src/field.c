@@ -96,6 +96,20 @@ double hx_field_slab_bytes(const hx_grid *g, const hx_field_opts *o)
     return c > r ? c : r;
 }
 
+/* FFTW-MPI takes its transpose buffers when it executes and aborts if it cannot (fftw_malloc
+ * asserts): a block of the slab's size must be there just before, so that a memory or
+ * address-space limit is one agreed line instead. Not collective. */
+static hx_status transpose_room(const hx_field *f)
+{
+    double bytes = hx_field_slab_bytes(&f->g, &f->o);
+    void *probe = malloc((size_t)bytes);
+    hx_status st = probe ? HX_OK : hx_error_set(HX_ERR_MEM, "rank %d cannot find the %.1f MiB FFTW needs for its "
+                                                "transposes (memory or address-space limit): give it more memory or "
+                                                "use more ranks", f->g.rank, bytes / 1048576.0);
+    free(probe);
+    return st;
+}
+
 hx_status hx_field_create(hx_field **out, const hx_grid *g, const hx_field_opts *o, MPI_Comm comm)
 {
     hx_status st = HX_OK;
@@ -145,6 +159,7 @@ hx_status hx_field_create(hx_field **out, const hx_grid *g, const hx_field_opts 
             if (!w->rm || !w->rn || !w->rw || !w->rx) st = hx_error_set(HX_ERR_MEM, "out of memory for the row buffers");
         }
     }
+    if (st == HX_OK) st = transpose_room(f); /* planning allocates too, and aborts the same way */
     if (st == HX_OK) st = hx_fault_point("alloc", comm); /* HELMIX_FAULT: tests only */
     HX_TRY(hx_error_agree(comm, st));
     if (o->compute == HX_PREC_SINGLE) {
@@ -656,6 +671,7 @@ hx_status hx_field_component(hx_field *f, int c, hx_precision prec, const void *
     }
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &power, 1, MPI_DOUBLE, MPI_SUM, f->comm));
     double t2 = MPI_Wtime();
+    HX_TRY(hx_error_agree(f->comm, transpose_room(f)));
     hx_timer_begin(f->o.timer, "transform");
     if (f->planf) fftwf_execute(f->planf);
     else fftw_execute(f->plan);
