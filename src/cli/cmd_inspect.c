@@ -10,12 +10,13 @@
 #include "cli.h"
 #include "options.h"
 #include "helmix/inspect.h"
+#include "helmix/io.h"
 #include "helmix/plot.h"
 #include "helmix/report.h"
 
 enum {
     O_VECTOR, O_ORDER, O_BOX, O_DENSITY, O_MAGNETIC, O_MAGNETIC_FACE, O_SOUND_SPEED, O_GRAVITY, O_GAMMA, O_REMOVE_SCALE,
-    O_FIT, O_CHECK, O_EXPECT, O_TOLERANCE, O_JSON, O_CSV, O_PLOT, O_TIMINGS, O_QUIET, O_VERBOSE, O_HELP
+    O_FIT, O_CHECK, O_VERIFY, O_EXPECT, O_TOLERANCE, O_JSON, O_CSV, O_PLOT, O_TIMINGS, O_QUIET, O_VERBOSE, O_HELP
 };
 
 static const hx_opt inspect_options[] = {
@@ -59,6 +60,9 @@ static const hx_opt inspect_options[] = {
      "virial\nparameter, sigma_3D or sigma_s, else the values make measured;\nzero net momentum when make removed the "
      "bulk flow; the\nmagnetic field's mean, random rms, beta and Alfven Mach number\nand zero divergence when make "
      "wrote one), or with\n--expect; exit 0 if every line passes, 1 if not"},
+    {"verify", 0, NULL, O_VERIFY, 0,
+     "first recompute the checksum of every dataset of a helmix file\nand compare it with the one make stored; a "
+     "dataset whose bytes\nchanged (or that lost its checksum) is named and the exit status\nis 1, with no analysis"},
     {"expect", 0, "KEY=V,...", O_EXPECT, 0,
      "what the cube should hold, any subset of fraction, slope, vrms,\nmach, virial, sigma_s (the state in a density), "
      "beta,\nalfven_mach (the mean magnetic field); implies --check"},
@@ -97,7 +101,7 @@ static void inspect_usage(FILE *out)
 typedef struct {
     hx_inspect_opts o;
     const char *json, *csv, *plot, *expect, *tolerance, *timings;
-    int check, help, verbosity;
+    int check, verify, help, verbosity;
 } inspect_args;
 
 static hx_status numbers(const char *opt, const char *text, double *v, int n)
@@ -144,6 +148,7 @@ static hx_status inspect_option(void *ctx, const hx_opt *opt, const char *val)
     case O_EXPECT: a->expect = val; break;
     case O_TOLERANCE: a->tolerance = val; break;
     case O_CHECK: a->check = 1; break;
+    case O_VERIFY: a->verify = 1; break;
     case O_QUIET: a->verbosity = HX_LOG_QUIET; break;
     case O_VERBOSE: a->verbosity = HX_LOG_DEBUG; break;
     case O_HELP: a->help = 1; break;
@@ -259,6 +264,21 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
     const hx_cli_file out[] = {{"--json", a.json}, {"--csv", a.csv}, {"--plot", a.plot}, {"--timings", a.timings}};
     st = hx_cli_check_files_agreed(in, 1, out, 4, comm);
     if (st != HX_OK) return hx_cli_fail(st, rank);
+    if (a.verify) { /* the file's integrity first: a changed dataset makes every number below moot */
+        hx_io_verify_counts vc = {0, 0, 0, 0};
+        st = hx_io_verify(a.o.cube.file, comm, a.verbosity > HX_LOG_QUIET && rank == 0 ? stdout : NULL, &vc);
+        if (st == HX_OK && vc.datasets > 0 && vc.missing == vc.datasets)
+            st = hx_error_set(HX_ERR_ARG, "--verify: %s carries no checksums (written by another program or by helmix "
+                                          "before 0.2): nothing to verify", a.o.cube.file);
+        st = hx_error_agree(comm, st);
+        if (st != HX_OK) return hx_cli_fail(st, rank);
+        if (vc.bad > 0 || vc.missing > 0) {
+            if (rank == 0)
+                fprintf(stderr, "helmix: %s: %d of %d datasets changed since make wrote them%s\n", a.o.cube.file,
+                        vc.bad + vc.missing, vc.datasets, vc.missing ? " (or lost their checksum)" : "");
+            return HX_EXIT_CHECK;
+        }
+    }
     hx_timer *timer = NULL;
     if (a.timings) {
         st = hx_error_agree(comm, hx_timer_create(&timer, "inspect"));

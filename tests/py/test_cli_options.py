@@ -57,7 +57,7 @@ OPTIONS = {
              "--quiet": None, "--verbose": None, "--help": None},
     "inspect": {"--vector": "/u,/v,/w", "--order": "xyz", "--box": "1,2,3", "--density": "/rho",
                 "--magnetic": "/a,/b,/c", "--magnetic-face": "/d,/e,/f", "--sound-speed": "1",
-                "--gravity": "1", "--gamma": "1.4", "--remove-scale": "0.1", "--fit": "2,6", "--check": None,
+                "--gravity": "1", "--gamma": "1.4", "--remove-scale": "0.1", "--fit": "2,6", "--check": None, "--verify": None,
                 "--expect": "fraction=0.3", "--tolerance": "fraction=0.01", "--json": "r.json", "--csv": "r.csv",
                 "--plot": "r.png", "--timings": "t.json", "--quiet": None, "--verbose": None, "--help": None},
     "suite": {"--cells": "32", "--ranks-hint": "3", "--quick": None, "--force": None, "--quiet": None,
