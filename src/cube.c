@@ -11,8 +11,10 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "check.h"
+#include "helmix/io.h"
 #include "helmix/schema.h"
 
 #define NAME_LEN 512
@@ -23,6 +25,7 @@ static const int VEC_SLOT[NVEC] = {HX_SLOT_VELOCITY, HX_SLOT_MAGNETIC, HX_SLOT_M
 
 struct hx_cube {
     MPI_Comm comm;
+    int dirfd;              /* the directory of a long path, open while the file is (else -1) */
     char path[HX_PATH_MAX];
     hid_t file;
     hid_t dset[HX_SLOT_COUNT];  /* by slot; a 4-D vector set sits in its first slot only */
@@ -226,13 +229,18 @@ hx_status hx_cube_open(hx_cube **out, const hx_cube_spec *spec, MPI_Comm comm)
     HX_ALLOC(cu, 1);
     cu->comm = comm;
     cu->file = -1;
+    cu->dirfd = -1;
     for (int i = 0; i < HX_SLOT_COUNT; i++) cu->dset[i] = -1;
     cu->order = spec->order;
     snprintf(cu->path, sizeof cu->path, "%s", spec->file);
     for (int a = 0; a < 3; a++) cu->box[a] = 1.0;
     HX_H5(fapl, H5Pcreate(H5P_FILE_ACCESS));
     HX_H5OK(H5Pset_fapl_mpio(fapl, comm, MPI_INFO_NULL));
-    cu->file = H5Fopen(spec->file, H5F_ACC_RDONLY, fapl);
+    /* a long path goes to MPI-IO through /proc/self/fd (Open MPI's I/O layer aborts on names of
+     * about 240 characters); the directory stays open until the file is closed */
+    char mname[HX_PATH_MAX];
+    HX_TRY(hx_error_agree(comm, hx_io_mpi_name(spec->file, comm, mname, sizeof mname, &cu->dirfd)));
+    cu->file = H5Fopen(mname, H5F_ACC_RDONLY, fapl);
     if (cu->file < 0) HX_FAIL(HX_ERR_ARG, "cannot open %s as HDF5 (missing, unreadable, truncated or not HDF5)", spec->file);
     HX_TRY(find_sets(cu, spec));
     if (spec->has_box) memcpy(cu->box, spec->box, sizeof cu->box);
@@ -781,6 +789,7 @@ void hx_cube_close(hx_cube **cube)
     for (int i = 0; i < HX_SLOT_COUNT; i++) /* a 4-D set is held by its first slot only */
         if (cu->dset[i] >= 0) H5Dclose(cu->dset[i]);
     if (cu->file >= 0) H5Fclose(cu->file);
+    if (cu->dirfd >= 0) close(cu->dirfd);
     free(cu);
     *cube = NULL;
 }
