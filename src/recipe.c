@@ -979,7 +979,9 @@ static int on_key(void *user, const char *section, const char *name, const char 
     if (ps->seen[i])
         return parse_fail(ps, ps->line, HX_ERR_ARG, "[%s] %s is given a second time (first on line %d): give each "
                           "key once (--set overrides the recipe)", k->section, k->name, ps->seen[i]);
-    const char *why = apply(k, ps->r, value, ps->basedir);
+    const char *why = *value == '#' || *value == ';' /* "key =#x": written back as "key = #x", a comment */
+                          ? "a value starting with '#' or ';' would read as a comment once written back"
+                          : apply(k, ps->r, value, ps->basedir);
     if (why)
         return parse_fail(ps, ps->line, HX_ERR_ARG, "[%s] %s = %.*s: %s", k->section, k->name, SHOW_MAX, value,
                           why);

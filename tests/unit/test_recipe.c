@@ -444,6 +444,11 @@ static void test_comments(void)
     CHECK(!strcmp(r.io_hints, "cb_nodes=2;x=1"));
     CHECK(load(&r, "# comment\n; comment\n  # indented comment\n[grid]\ncells = 8#9\n") == HX_ERR_ARG);
     CHECK_STR_CONTAINS(hx_error_message(), "run.ini:5: [grid] cells = 8#9:");
+    /* Found by fuzz_recipe: "file =#x" holds no comment, but its rendering "file = #x" would:
+     * a value starting with '#' or ';' is refused, as --set refuses it */
+    expect_error("[output]\nfile =#x.h5\n", 0, "run.ini:2: [output] file = #x.h5: a value starting with '#'", NULL,
+                 NULL);
+    expect_error("[output]\nfile =;x.h5\n", 0, "run.ini:2: [output] file = ;x.h5:", NULL, NULL);
     /* a value cut to nothing by a comment is a missing value, said as such */
     expect_error("[grid]\ncells = # 8\n", 0, "run.ini:2: [grid] cells = :", NULL, NULL);
     /* a path with " #" cannot be written in a recipe, so --set refuses it rather than lose its tail later */
