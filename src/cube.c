@@ -206,20 +206,7 @@ fail:
 
 /* Box from the Grid Data Format domain edges, if the file has them; edges that are not finite
  * give a side that is not either, for hx_grid_check to refuse. */
-static void gdf_box(hx_cube *cu)
-{
-    double l[3], r[3];
-    if (H5Aexists_by_name(cu->file, "/simulation_parameters", "domain_right_edge", H5P_DEFAULT) <= 0) return;
-    hid_t g = H5Gopen2(cu->file, "/simulation_parameters", H5P_DEFAULT);
-    if (g < 0) return;
-    hid_t al = H5Aopen(g, "domain_left_edge", H5P_DEFAULT), ar = H5Aopen(g, "domain_right_edge", H5P_DEFAULT);
-    if (al >= 0 && ar >= 0 && H5Aread(al, H5T_NATIVE_DOUBLE, l) >= 0 && H5Aread(ar, H5T_NATIVE_DOUBLE, r) >= 0)
-        for (int a = 0; a < 3; a++)
-            if (r[a] > l[a] || !isfinite(r[a]) || !isfinite(l[a])) cu->box[a] = r[a] - l[a];
-    if (al >= 0) H5Aclose(al);
-    if (ar >= 0) H5Aclose(ar);
-    H5Gclose(g);
-}
+static hx_status gdf_box(hx_cube *cu);
 
 hx_status hx_cube_open(hx_cube **out, const hx_cube_spec *spec, MPI_Comm comm)
 {
@@ -244,7 +231,7 @@ hx_status hx_cube_open(hx_cube **out, const hx_cube_spec *spec, MPI_Comm comm)
     if (cu->file < 0) HX_FAIL(HX_ERR_ARG, "cannot open %s as HDF5 (missing, unreadable, truncated or not HDF5)", spec->file);
     HX_TRY(find_sets(cu, spec));
     if (spec->has_box) memcpy(cu->box, spec->box, sizeof cu->box);
-    else gdf_box(cu);
+    else HX_TRY(gdf_box(cu));
     H5Pclose(fapl);
     *out = cu;
     return HX_OK;
@@ -498,6 +485,23 @@ static int attr_numbers(attr_ctx *A, hid_t obj, const char *name, double *v, int
     if (a >= 0) H5Aclose(a);
     if (!ok) attr_bad(A, name, "cannot be read", need);
     return ok;
+}
+
+/* Box from the Grid Data Format domain edges, if the file has them: both edges must be three
+ * numbers each (the sides they give are judged with the grid, hx_grid_check). */
+static hx_status gdf_box(hx_cube *cu)
+{
+    double l[3], r[3];
+    if (H5Lexists(cu->file, "/simulation_parameters", H5P_DEFAULT) <= 0 ||
+        H5Aexists_by_name(cu->file, "/simulation_parameters", "domain_right_edge", H5P_DEFAULT) <= 0)
+        return HX_OK;
+    hid_t g = H5Gopen2(cu->file, "/simulation_parameters", H5P_DEFAULT);
+    if (g < 0) return hx_error_set(HX_ERR_ARG, "%s: /simulation_parameters cannot be opened", cu->path);
+    attr_ctx A = {cu, "/simulation_parameters", HX_OK};
+    if (attr_numbers(&A, g, "domain_right_edge", r, 3, 1) && attr_numbers(&A, g, "domain_left_edge", l, 3, 1))
+        for (int a = 0; a < 3; a++) cu->box[a] = r[a] - l[a];
+    H5Gclose(g);
+    return A.st;
 }
 
 /* One number in [lo, hi]; NaN stands for "not recorded" only where allow_nan. Returns 1 when

@@ -168,7 +168,12 @@ static hx_status inspect_option(void *ctx, const hx_opt *opt, const char *val)
     case O_REMOVE_SCALE: return positive("--remove-scale", val, &o->remove_scale, "a length > 0");
     case O_SOUND_SPEED: return positive("--sound-speed", val, &o->sound_speed, "a number > 0 (code units)");
     case O_GRAVITY: return positive("--gravity", val, &o->gravity, "a number > 0 (code units)");
-    case O_GAMMA: return positive("--gamma", val, &o->gamma, "a number > 0");
+    case O_GAMMA: {
+        hx_status st = positive("--gamma", val, &o->gamma, "a number >= 1");
+        if (st == HX_OK && !(o->gamma >= 1.0)) /* as make: an adiabatic index is at least 1 */
+            st = hx_error_set(HX_ERR_ARG, "--gamma %s: the adiabatic index must be >= 1 (1 isothermal, 5/3 monatomic)", val);
+        return st;
+    }
     case O_FIT: {
         hx_status st = numbers("--fit", val, o->fit, 2);
         if (st != HX_OK) return st;
