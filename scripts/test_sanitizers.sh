@@ -26,8 +26,6 @@ export UBSAN_OPTIONS="$common:print_stacktrace=1:halt_on_error=1"
 # use_tls=0: GCC 12's LeakSanitizer crashes reading glibc 2.36's dynamic thread-local storage in
 # an MPI singleton ("Tracer caught signal 11"); what only TLS holds is OpenMP's (suppressed by name).
 export LSAN_OPTIONS="suppressions=$root/tests/sanitizers/lsan.supp:print_suppressions=0:use_tls=0"
-# Keep Open MPI's components loaded to the end, so that a leak stack through one names it.
-export OMPI_MCA_mca_base_component_disable_dlclose=1
 export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1
 
 # py_make_errors, py_inspect_errors and py_plan launch too many processes or too large cubes for
