@@ -247,10 +247,22 @@ fail:
  * pass kept them, else one batched call (kept now when this pass fills the cache). In single
  * compute the draws are rounded to single precision whichever way they come, so kept and
  * regenerated draws give the same bits. Returns how many; rx[i] is the x index of mode i. */
+/* How far along row (y, z) modes can lie in the band: |k| grows with x (kx = x lmax / Lx for
+ * x < nxc, the even Nyquist column last and NAN), so the row ends at the first x beyond kmax;
+ * a row whose ky, kz alone exceed kmax (or a Nyquist row) holds none. */
+static inline ptrdiff_t row_end(const hx_field *f, ptrdiff_t y, ptrdiff_t z)
+{
+    double b2 = f->kv[1][y] * f->kv[1][y] + f->kv[2][z] * f->kv[2][z];
+    if (!(b2 <= f->kmax2)) return 0;
+    ptrdiff_t x = 0;
+    while (x < f->g.nxc && !(f->kv[0][x] * f->kv[0][x] + b2 > f->kmax2)) x++;
+    return x;
+}
+
 static int row_modes(const hx_field *f, work_t *w, ptrdiff_t y, ptrdiff_t z)
 {
     int n = 0;
-    for (ptrdiff_t x = 0; x < f->g.nxc; x++)
+    for (ptrdiff_t x = 0, end = row_end(f, y, z); x < end; x++)
         if (mode_at(f, y, z, x, &w->rm[n])) {
             for (int a = 0; a < 3; a++) w->rn[n][a] = w->rm[n].n[a];
             w->rx[n++] = x;
@@ -288,7 +300,7 @@ static int64_t count_band(hx_field *f)
     for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++) {
         f->plane_off[y - g->y0] = n;
         for (ptrdiff_t z = 0; z < g->n[2]; z++)
-            for (ptrdiff_t x = 0; x < g->nxc; x++) n += mode_at(f, y, z, x, &m);
+            for (ptrdiff_t x = 0, end = row_end(f, y, z); x < end; x++) n += mode_at(f, y, z, x, &m);
     }
     f->plane_off[g->ny] = n;
     return n;
