@@ -1137,6 +1137,13 @@ static void origin_of(const hx_recipe *r, const key *k, char *buf, size_t n)
     else snprintf(buf, n, "default");
 }
 
+void hx_recipe_origin(const hx_recipe *r, const char *section, const char *name, char *buf, size_t n)
+{
+    const key *k = find_key(section, name);
+    if (k) origin_of(r, k, buf, n);
+    else snprintf(buf, n, "%s", r->origin);
+}
+
 static hx_status invalid(const hx_recipe *r, const char *section, const char *name, const char *fmt, ...)
     __attribute__((format(printf, 4, 5)));
 

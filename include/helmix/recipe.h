@@ -184,6 +184,10 @@ hx_status hx_recipe_set(hx_recipe *r, const char *assignment);
  * from: "origin:line: [section] key = value", "--set section.key=value", or the default. */
 hx_status hx_recipe_validate(hx_recipe *r);
 
+/* Where key section.name of r was set, short: "run.ini:7", "--set" or "default" (for messages
+ * of checks made outside the recipe module, e.g. the I/O tuning). Not collective. */
+void hx_recipe_origin(const hx_recipe *r, const char *section, const char *name, char *buf, size_t n);
+
 /* The largest admissible kmax for these cells and box: min over axes of
  * (N_i/2 - 1) * max(L) / L_i, in units of 2 pi / max(L). */
 double hx_recipe_kmax_limit(const hx_recipe *r);

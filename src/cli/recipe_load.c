@@ -5,6 +5,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "helmix/io.h"
 
 hx_status hx_cli_load_recipe(const char *path, const char *output, const char *const *sets, int nsets, hx_recipe *r,
                              MPI_Comm comm)
@@ -24,5 +25,17 @@ hx_status hx_cli_load_recipe(const char *path, const char *output, const char *c
         snprintf(r->file, sizeof r->file, "%s", output);
     }
     if (st == HX_OK) st = hx_recipe_validate(r); /* its messages name the file and line, or the --set */
+    /* the I/O tuning is checked by io (which the recipe module does not know); its message is
+     * given the key's origin like every other recipe message */
+    const char *names[2] = {"alignment", "io_hints"};
+    for (int i = 0; st == HX_OK && i < 2; i++) {
+        hx_io_tuning t = {i ? 0.0 : r->alignment, i ? r->io_hints : "none"};
+        if ((st = hx_io_tuning_check(&t)) != HX_OK) {
+            char where[HX_PATH_MAX + 32], msg[1024];
+            hx_recipe_origin(r, "output", names[i], where, sizeof where);
+            snprintf(msg, sizeof msg, "%s", hx_error_message());
+            st = hx_error_set(st, "%s: %s", where, msg);
+        }
+    }
     return st;
 }
