@@ -5,7 +5,7 @@ set -euo pipefail
 root=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 pkgs=(build-essential cmake pkg-config openmpi-bin libopenmpi-dev libfftw3-dev libfftw3-mpi-dev
       libhdf5-openmpi-dev hdf5-tools librandom123-dev libinih-dev libcjson-dev libcairo2-dev
-      poppler-utils python3-numpy python3-scipy python3-h5py python3-yt time clang-14 libclang-rt-14-dev)
+      poppler-utils python3-numpy python3-scipy python3-h5py python3-yt time clang-14 libclang-rt-14-dev valgrind)
 missing=()
 for p in "${pkgs[@]}"; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")
