@@ -27,6 +27,7 @@ export UBSAN_OPTIONS="$common:print_stacktrace=1:halt_on_error=1"
 # an MPI singleton ("Tracer caught signal 11"); what only TLS holds is OpenMP's (suppressed by name).
 export LSAN_OPTIONS="suppressions=$root/tests/sanitizers/lsan.supp:print_suppressions=0:use_tls=0"
 export OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1
+export OMPI_MCA_btl="${OMPI_MCA_btl:-self,vader}" OMPI_MCA_pml="${OMPI_MCA_pml:-ob1}" # one machine: see test.sh
 
 # py_make_errors, py_inspect_errors and py_plan launch too many processes or too large cubes for
 # their timeouts here (the leak check costs about 2 s per process); plan is run below instead.
