@@ -260,9 +260,11 @@ def signals(R, hx, c):
         d = hx.path("sig_" + how.split()[0])
         os.mkdir(d)
         out = os.path.join(d, "o.h5")
-        p = R.start(recipe(224, "double"), out, 2)
+        # 256^3 in double takes well over a second after its partial appears (the plan and the
+        # synthesis of the first component come first), so the signal lands while it runs
+        p = R.start(recipe(256, "double"), out, 2)
         seen = wait_for(out + ".partial", p)
-        time.sleep(0.3)
+        time.sleep(0.05)
         if how.startswith("SIGTERM"):
             p.send_signal(signal.SIGTERM)
         else:
