@@ -12,8 +12,6 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/resource.h>
-#include <sys/stat.h>
-#include <unistd.h>
 
 #include "check.h"
 #include "helmix/version.h"
@@ -151,31 +149,6 @@ void hx_timer_grid(hx_timer *t, const int64_t n[3])
 {
     if (!t || !n) return;
     memcpy(t->grid, n, sizeof t->grid);
-}
-
-hx_status hx_timer_check_output(const char *opt, const char *path)
-{
-    char dir[4096];
-    struct stat sb;
-    const char *slash = path ? strrchr(path, '/') : NULL;
-    if (!path || !path[0]) return hx_error_set(HX_ERR_ARG, "%s: the file name is empty", opt);
-    if (slash) snprintf(dir, sizeof dir, "%.*s", (int)(slash == path ? 1 : slash - path), path);
-    else snprintf(dir, sizeof dir, ".");
-    if (stat(dir, &sb) != 0 || !S_ISDIR(sb.st_mode))
-        return hx_error_set(HX_ERR_ARG, "%s %s: the directory %s does not exist", opt, path, dir);
-    if (access(dir, W_OK) != 0) return hx_error_set(HX_ERR_ARG, "%s %s: the directory %s cannot be written", opt, path, dir);
-    if (stat(path, &sb) == 0 && S_ISDIR(sb.st_mode)) return hx_error_set(HX_ERR_ARG, "%s %s: is a directory; name a file", opt, path);
-    return HX_OK;
-}
-
-hx_status hx_timer_check_path(const char *path, MPI_Comm comm)
-{
-    int rank = 0;
-    hx_status st = HX_OK;
-    HX_MPI(MPI_Comm_rank(comm, &rank));
-    if (rank == 0) st = hx_timer_check_output("--timings", path); /* rank 0 alone writes the file */
-fail:
-    return hx_error_agree(comm, st);
 }
 
 /* FNV-1a over the phase names in order: equal on every rank when they met the same phases. */

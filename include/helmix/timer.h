@@ -40,14 +40,6 @@ hx_status hx_timer_write(hx_timer *t, const char *path, MPI_Comm comm);
  * which `helmix scaling` groups runs by. */
 void hx_timer_grid(hx_timer *t, const int64_t n[3]);
 
-/* Not collective: HX_ERR_ARG with one line ("OPT PATH: the directory D does not exist") for an
- * output path whose directory does not exist or cannot be written, or that names a directory. */
-hx_status hx_timer_check_output(const char *opt, const char *path);
-
-/* Collective: hx_timer_check_output("--timings", path) on rank 0 (the rank that writes),
- * agreed on every rank; call it before any work. */
-hx_status hx_timer_check_path(const char *path, MPI_Comm comm);
-
 void hx_timer_destroy(hx_timer **t);
 
 #endif
