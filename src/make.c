@@ -738,8 +738,6 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     hx_timer *tm = run ? run->timer : NULL;
     R.timer = tm;
     HX_TRY(hx_io_check_target(r->file, force, comm));
-    /* the I/O tuning text is the same on every rank: refused before any planning */
-    HX_TRY(hx_io_tuning_check(&(hx_io_tuning){r->alignment, r->io_hints}));
     hx_timer_begin(tm, "plan");
     HX_TRY(hx_fft_begin(run, comm));
     HX_TRY(hx_grid_init(&R.g, r->cells, r->box, comm));
