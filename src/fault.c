@@ -1,13 +1,15 @@
-/* fault.c — the test switch HELMIX_FAULT (one chosen rank fails in one chosen phase) and the
- * signal handlers that remove the files a run is writing.
+/* fault.c — the test switches HELMIX_FAULT (one chosen rank fails in one chosen phase) and
+ * HELMIX_STALL (every rank pauses once in one chosen phase), and the signal handlers that remove the files a run is writing.
  * Invariant: the handler touches only memory prepared before the signal (fixed slots, a name
  * is complete before its slot is marked used) and calls only unlink, signal and raise. */
 #include "helmix/fault.h"
 
+#include <errno.h>
 #include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 #include <unistd.h>
 
 #include "helmix/recipe.h"
@@ -44,9 +46,50 @@ static void parse_switch(void)
     sw.rank = rank, sw.nth = nth;
 }
 
+/* The stall switch HELMIX_STALL=PHASE:SECONDS, read once. */
+static struct {
+    int parsed, bad, phase, done;
+    double seconds;
+    char text[64];
+} stall = {0, 0, -1, 0, 0.0, ""};
+
+static void parse_stall(void)
+{
+    const char *v = getenv("HELMIX_STALL");
+    stall.parsed = 1;
+    if (!v || !*v) return;
+    snprintf(stall.text, sizeof stall.text, "%s", v);
+    char name[32] = "";
+    int used = 0;
+    double t = -1.0;
+    stall.bad = sscanf(v, "%31[a-z]:%lf%n", name, &t, &used) != 2 || v[used] != '\0' || !(t > 0.0 && t <= 3600.0);
+    for (int p = 0; p < NPHASE && !stall.bad; p++)
+        if (!strcmp(name, phases[p])) stall.phase = p;
+    if (stall.phase < 0) stall.bad = 1;
+    stall.seconds = t;
+}
+
+/* Sleep through signals that have no handler of ours; a signal we catch ends the process
+ * inside its handler, so the sleep never outlives it. */
+static void pause_for(double seconds)
+{
+    struct timespec left = {(time_t)seconds, (long)((seconds - (double)(time_t)seconds) * 1e9)};
+    while (nanosleep(&left, &left) != 0 && errno == EINTR) {
+    }
+}
+
 hx_status hx_fault_point(const char *phase, MPI_Comm comm)
 {
     if (!sw.parsed) parse_switch();
+    if (!stall.parsed) parse_stall();
+    if (stall.bad)
+        return hx_error_set(HX_ERR_ARG, "HELMIX_STALL=%s: write PHASE:SECONDS with PHASE one of alloc, plan, create, "
+                                        "write, close, rename, xdmf, verify and 0 < SECONDS <= 3600 (a switch for tests)",
+                            stall.text);
+    if (stall.text[0] && !stall.done && !strcmp(phase, phases[stall.phase])) {
+        stall.done = 1;
+        pause_for(stall.seconds);
+    }
     if (!sw.text[0]) return HX_OK;
     if (sw.bad)
         return hx_error_set(HX_ERR_ARG, "HELMIX_FAULT=%s: write RANK:PHASE or RANK:PHASE:N with PHASE one of alloc, "
@@ -108,7 +151,7 @@ void hx_fault_guard_remove(const char *path)
 
 static void on_signal(int sig)
 {
-    for (int i = 0; i < HX_FAULT_GUARDS; i++)
+    for (int i = HX_FAULT_GUARDS - 1; i >= 0; i--) /* highest slot first: a partial before its lock */
         if (guard_used[i]) unlink(guard_path[i]);
     signal(sig, SIG_DFL);
     raise(sig); /* delivered on return: the process ends as killed by sig */

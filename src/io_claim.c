@@ -1,8 +1,8 @@
 /* io_claim.c — one run per output: FILE.lock created exclusively and held with flock by rank 0,
  * the partial file created exclusively beside it, stale leftovers of a killed run recognised and
  * removed, and names short enough for the MPI-IO layer.
- * Invariant: a name is registered with the signal guard only while this run owns the file, so
- * a signal never removes another run's files; the lock is removed last. */
+ * Invariant: a name is registered with the signal guard (on every rank) only while this run
+ * owns the file, so a signal never removes another run's files; the lock is removed last. */
 #define _GNU_SOURCE
 #include "io_claim.h"
 
@@ -289,7 +289,12 @@ hx_status io_claim_take(io_claim *c, const char *path, MPI_Comm comm)
     st = hx_error_agree(comm, st);
     if (st == HX_OK) HX_MPI(MPI_Bcast(c->partial, (int)sizeof c->partial, MPI_CHAR, 0, comm));
     if (st == HX_OK) st = io_mpi_name(c->partial, comm, c->mpiname, sizeof c->mpiname, &c->dirfd);
-    if (st == HX_OK && c->rank != 0) hx_fault_guard_add(c->partial);
+    /* Every rank guards both names: mpiexec passes a signal on to all ranks and sends SIGKILL as
+     * soon as the first of them ends, so the first handler to run must clean up for the run. */
+    if (st == HX_OK && c->rank != 0) {
+        hx_fault_guard_add(c->lock); /* first: the handler removes the newest name first */
+        hx_fault_guard_add(c->partial);
+    }
     if (st == HX_OK) return HX_OK;
 fail:
     if (c->rank == 0 && c->datafd >= 0) unlink(c->partial);
@@ -303,9 +308,13 @@ void io_claim_release(io_claim *c)
     hx_fault_guard_remove(c->xmf_partial);
     if (c->datafd >= 0) close(c->datafd);
     c->datafd = -1;
+    hx_fault_guard_remove(c->lock);
     if (c->lockfd >= 0) {
-        unlink(c->lock); /* while still holding it: a run that opened it before sees a removed lock */
-        hx_fault_guard_remove(c->lock);
+        /* while still holding it: a run that opened it before sees a removed lock; only if the
+         * name is still this lock (another rank's signal handler may have removed it already) */
+        struct stat a, b;
+        if (fstat(c->lockfd, &a) == 0 && stat(c->lock, &b) == 0 && a.st_ino == b.st_ino && a.st_dev == b.st_dev)
+            unlink(c->lock);
         close(c->lockfd);
     }
     c->lockfd = -1;

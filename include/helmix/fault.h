@@ -10,6 +10,11 @@
  * Without HELMIX_FAULT nothing is ever injected. A malformed value is refused at the first
  * fault point with one line (HX_ERR_ARG), on every rank alike.
  *
+ * Stalls (tests only): HELMIX_STALL="PHASE:SECONDS" makes every rank pause SECONDS (0-3600] the
+ * first time it passes the fault point PHASE, as a slow file system would; tests use it to have
+ * a signal, a second run or a removed directory land at a known phase, whatever the machine's
+ * speed. A malformed value is refused like HELMIX_FAULT's.
+ *
  * Signals: the files a run is writing are registered here (hx_fault_guard_add); the handlers
  * hx_fault_install_handlers sets for SIGINT, SIGTERM, SIGHUP and SIGXCPU unlink them (unlink is
  * async-signal-safe; the names are copied in advance), then re-raise the signal with its default
@@ -31,7 +36,9 @@ hx_status hx_fault_point(const char *phase, MPI_Comm comm);
 int hx_fault_no_reserve(void);
 
 /* Register / forget a file to be removed if a signal ends the process. At most
- * HX_FAULT_GUARDS names at once; 0 on success, -1 when full or too long. Not collective. */
+ * HX_FAULT_GUARDS names at once; 0 on success, -1 when full or too long. Not collective.
+ * A name takes the lowest free slot and the handler removes the highest slot first, so a lock
+ * registered before the files it covers is removed after them. */
 #define HX_FAULT_GUARDS 8
 int hx_fault_guard_add(const char *path);
 void hx_fault_guard_remove(const char *path);

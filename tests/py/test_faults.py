@@ -16,7 +16,11 @@ What is asserted, and where the expectation comes from:
   * two runs on one output: the second is refused (exit 2, one line) and the first's file is
     its own; after SIGKILL the next run says it removed the stale partial and succeeds;
   * SIGTERM to mpiexec and SIGINT to one rank (POSIX: the default action ends the process;
-    helmix removes its partial first): exit non-zero, no partial or lock left;
+    helmix removes its partial first): exit non-zero, no partial or lock left. Open MPI 4.1's
+    mpiexec passes SIGTERM on only after odls_base_sigkill_timeout (1 s, ompi_info) and sends
+    SIGKILL as soon as the first rank ends, so every rank removes the run's files. Runs that
+    must still be running when a signal, a second run or a removal lands pause at their first
+    write (HELMIX_STALL=write:S, include/helmix/fault.h), whatever the machine's speed;
   * paths of 600 characters (Open MPI 4.1 overflows at ~240) with a 230-character file name:
     written; a 250-character name refused with one line; --force onto a directory exit 2;
   * integrity: each dataset's helmix_checksum equals the sum io_digest.h defines, recomputed
@@ -45,6 +49,8 @@ SRC_DIGEST = "src/io_digest.h: sum of splitmix64 finaliser(bits xor i*0x9E3779B9
 SRC_LOCK = "include/helmix/io.h: one run per output (FILE.lock, flock)"
 GRID = "/data/grid_0000000000"
 TIMEOUT = 60
+# every rank pauses this long at its first write, after the partial file and the lock exist
+STALL = "write:30"
 
 
 def recipe(cells=16, precision="double", seed=5):
@@ -64,24 +70,26 @@ class Runner:
         with open(ini, "w") as f:
             f.write(H.recipe_text(rec))
         return (list(self.args.mpiexec) + ["-n", str(ranks), "-x", "HELMIX_FAULT", "-x", "HELMIX_NO_RESERVE",
+                                           "-x", "HELMIX_STALL",
                                            self.args.helmix, "make", ini, "-o", out, "--quiet"] + list(extra))
 
-    def env(self, fault="", noreserve=""):
+    def env(self, fault="", noreserve="", stall=""):
         session = tempfile.mkdtemp(prefix="ompi-", dir=self.hx.tmp)
-        return dict(os.environ, OMPI_MCA_orte_tmpdir_base=session, HELMIX_FAULT=fault, HELMIX_NO_RESERVE=noreserve)
+        return dict(os.environ, OMPI_MCA_orte_tmpdir_base=session, HELMIX_FAULT=fault, HELMIX_NO_RESERVE=noreserve,
+                    HELMIX_STALL=stall)
 
-    def run(self, rec, out, ranks=1, fault="", noreserve="", extra=()):
+    def run(self, rec, out, ranks=1, fault="", noreserve="", extra=(), stall=""):
         t0 = time.time()
         try:
             p = subprocess.run(self.argv(rec, out, ranks, extra), capture_output=True, text=True, timeout=TIMEOUT,
-                               env=self.env(fault, noreserve), start_new_session=True)
+                               env=self.env(fault, noreserve, stall), start_new_session=True)
             return p.returncode, p.stdout, p.stderr, time.time() - t0
         except subprocess.TimeoutExpired as e:
             return "timeout", "", (e.stderr or b"").decode(errors="replace") if isinstance(e.stderr, bytes) else "", TIMEOUT
 
-    def start(self, rec, out, ranks=1, extra=()):
+    def start(self, rec, out, ranks=1, extra=(), stall=STALL):
         return subprocess.Popen(self.argv(rec, out, ranks, extra), stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                                text=True, env=self.env(), start_new_session=True)
+                                text=True, env=self.env(stall=stall), start_new_session=True)
 
 
 def finish(p):
@@ -171,6 +179,14 @@ def faults(R, hx, c):
             left(d) == ["o.h5", "o.h5.xmf"], f"rc={rc} {left(d)} {err[-300:]}", SRC_FAULT)
     rc, _, err, _ = R.run(recipe(), os.path.join(d, "x.h5"), 1, fault="0:nosuch")
     one_error(c, "malformed HELMIX_FAULT", rc, err, 2, ["HELMIX_FAULT=0:nosuch"])
+    for bad in ("write", "write:0", "write:-1", "write:1x", "nosuch:1", "write:4000"):
+        rc, _, err, _ = R.run(recipe(), os.path.join(d, "x.h5"), 1, stall=bad)
+        one_error(c, f"malformed HELMIX_STALL={bad}", rc, err, 2, [f"HELMIX_STALL={bad}:"])
+    os.remove(os.path.join(d, "o.h5"))
+    os.remove(os.path.join(d, "o.h5.xmf"))
+    rc, _, err, t = R.run(recipe(), os.path.join(d, "o.h5"), 2, stall="write:1.5")
+    c.check("a stall only delays: exit 0 after at least 1.5 s, file and sidecar", rc == 0 and t >= 1.5 and
+            left(d) == ["o.h5", "o.h5.xmf"], f"rc={rc} {t:.2f} s {left(d)} {err[-300:]}", SRC_FAULT)
 
 
 def can_mount():
@@ -214,7 +230,7 @@ def disk(R, hx, c):
 def removed_dir(R, hx, c):
     d = hx.path("doomed")
     os.mkdir(d)
-    p = R.start(recipe(192, "double"), os.path.join(d, "o.h5"), 2)
+    p = R.start(recipe(32, "double"), os.path.join(d, "o.h5"), 2, stall="write:3")
     seen = wait_for(os.path.join(d, "o.h5.partial"), p)
     shutil.rmtree(d, ignore_errors=True)
     rc, err = finish(p)
@@ -227,7 +243,7 @@ def concurrent(R, hx, c):
     d = hx.path("shared")
     os.mkdir(d)
     out = os.path.join(d, "o.h5")
-    a = R.start(recipe(192, "double", seed=1), out, 1)
+    a = R.start(recipe(32, "double", seed=1), out, 1, stall="write:5")
     seen = wait_for(out + ".lock", a)
     rc_b, _, err_b, _ = R.run(recipe(16, "double", seed=2), out, 2, extra=["--force"])
     rc_a, err_a = finish(a)
@@ -241,7 +257,7 @@ def concurrent(R, hx, c):
     c.check("two runs: only the file and its sidecar", left(d) == ["o.h5", "o.h5.xmf"], left(d))
     # a run killed outright leaves its partial and lock; the next run says so and proceeds
     os.remove(out)
-    k = R.start(recipe(192, "double", seed=3), out, 2)
+    k = R.start(recipe(32, "double", seed=3), out, 2)
     seen = wait_for(out + ".partial", k)
     time.sleep(0.3)
     kill_all(k, out, signal.SIGKILL)
@@ -260,9 +276,8 @@ def signals(R, hx, c):
         d = hx.path("sig_" + how.split()[0])
         os.mkdir(d)
         out = os.path.join(d, "o.h5")
-        # 256^3 in double takes well over a second after its partial appears (the plan and the
-        # synthesis of the first component come first), so the signal lands while it runs
-        p = R.start(recipe(256, "double"), out, 2)
+        # mpiexec passes SIGTERM on 1 s after it gets it: the run pauses at its first write
+        p = R.start(recipe(32, "double"), out, 2)
         seen = wait_for(out + ".partial", p)
         time.sleep(0.05)
         if how.startswith("SIGTERM"):
