@@ -95,7 +95,8 @@ def verdict(x, good):
     return "n/a (not measured)" if math.isnan(x) else ("met" if good(x) else "not met")
 
 
-# ROWS of a report: (label, ranks, row name, floor rank count to compare with).
+# ROWS of a report: (label, ranks, row name, floor to compare with: the rank count of the
+# "floor" rows, or a (label, ranks) pair such as ("floor_t2", 1)).
 
 def begin_report(path, n, command, io, rows, own_rss):
     """Read a results file, print the title and the main table of `helmix COMMAND` (float32
@@ -115,7 +116,7 @@ def main_table(title, rows, get):
     print("|---|---:|---:|---:|---:|---:|---:|")
     for label, ranks, name, floor_ranks in rows:
         r = get(label, ranks)
-        fl = get("floor", floor_ranks)
+        fl = get(*floor_ranks) if isinstance(floor_ranks, tuple) else get("floor", floor_ranks)
         cells = [fmt(r["wall"], ".2f"), fmt(r["rss"] * MIB, ".0f"),
                  fmt(ratio(r["wall"], fl["wall"]), ".2f"),
                  fmt(ratio(peer["wall"], r["wall"]), ".1f"),
@@ -133,7 +134,7 @@ def details_table(rows, get, rss_title, rss_key):
     print("|---|---:|---:|---|---:|---:|---:|")
     for label, ranks, name, floor_ranks in rows:
         r = get(label, ranks)
-        fl = get("floor", floor_ranks)
+        fl = get(*floor_ranks) if isinstance(floor_ranks, tuple) else get("floor", floor_ranks)
         walls = ", ".join(format(w, ".2f") for w in r["walls"]) or "n/a"
         print(f"| {name} | {ranks} | {r['n_ok']}/{r['n']} | {walls} | "
               f"{fmt(r['self_wall'], '.2f')} | "

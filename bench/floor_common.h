@@ -65,7 +65,8 @@ static inline void floor_die(const char *file, int line, const char *what)
  * not start (then nothing else may be called). */
 static inline int floor_init(int *argc, char ***argv, int *rank, int *nranks)
 {
-    if (MPI_Init(argc, argv) != MPI_SUCCESS) {
+    int provided = MPI_THREAD_SINGLE; /* FFTW's threads (OMP_NUM_THREADS > 1) call no MPI */
+    if (MPI_Init_thread(argc, argv, MPI_THREAD_FUNNELED, &provided) != MPI_SUCCESS) {
         fprintf(stderr, FLOOR_NAME ": MPI_Init failed\n");
         return 1;
     }
@@ -89,11 +90,19 @@ static inline int floor_bad_args(int rank, const char *fmt, ...)
     return 2;
 }
 
-/* Start of the measured span: all ranks together, then FFTW-MPI. Returns the start time. */
+/* Start of the measured span: all ranks together, then FFTW-MPI, with OMP_NUM_THREADS threads
+ * per rank for the transforms when it is above 1 (as helmix --threads). Returns the start time. */
 static inline double floor_start(void)
 {
     CK_MPI(MPI_Barrier(MPI_COMM_WORLD));
     const double t0 = MPI_Wtime();
+    const char *env = getenv("OMP_NUM_THREADS");
+    int threads = env ? atoi(env) : 1;
+    if (threads > 1) {
+        if (!fftw_init_threads() || !fftwf_init_threads()) FLOOR_DIE("fftw_init_threads");
+        fftw_plan_with_nthreads(threads);
+        fftwf_plan_with_nthreads(threads);
+    }
     fftw_mpi_init();
     fftwf_mpi_init();
     return t0;

@@ -7,7 +7,7 @@
 #                            make the work directory $work (removed at exit), empty
 #                            $results and note the load average;
 #   build_floor NAME         compile bench/NAME.c (with floor_common.h, FFTW-MPI in double and
-#                            single precision) into $work/NAME;
+#                            single precision, threaded when OMP_NUM_THREADS > 1) into $work/NAME;
 #   run_one LABEL RANKS REP CMD...
 #                            run CMD under /usr/bin/time and append its line to $results;
 #   bench_table REPORT       print the tables: bench/REPORT table $results N REPEATS.
@@ -64,8 +64,8 @@ bench_init() {
 
 build_floor() {
     # shellcheck disable=SC2046  # pkg-config output is a list of words
-    mpicc -O2 -I/usr/include/hdf5/openmpi "$here/$1.c" -o "$work/$1" \
-        $(pkg-config --libs hdf5-openmpi) -lfftw3_mpi -lfftw3 -lfftw3f_mpi -lfftw3f -lm \
+    mpicc -O2 -fopenmp -I/usr/include/hdf5/openmpi "$here/$1.c" -o "$work/$1" \
+        $(pkg-config --libs hdf5-openmpi) -lfftw3_mpi -lfftw3_omp -lfftw3 -lfftw3f_mpi -lfftw3f_omp -lfftw3f -lm \
         || die "could not compile bench/$1.c"
 }
 

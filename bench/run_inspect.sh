@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # run_inspect.sh — the helmix inspect benchmark: makes an N^3 single-precision cube with
-# `helmix make`, then times `helmix inspect` on 1 and 2 ranks (and with --plot on 2 ranks)
-# against the floor (bench/floor_inspect.c: collective read, padded rows and r2c transforms
+# `helmix make`, then times `helmix inspect` on 1 and 2 ranks, on 1 rank with 2 threads, and
+# with --plot on 2 ranks, against the floor (with the same ranks and threads) (bench/floor_inspect.c: collective read, padded rows and r2c transforms
 # only) and against the plain serial numpy peer (bench/peer_numpy_inspect.py), then prints a
 # Markdown table and the aim.
 #
@@ -61,6 +61,12 @@ for rep in $(seq 1 "$REPEATS"); do
         echo "  repeat $rep: floor, $p rank(s)" >&2
         run_one floor "$p" "$rep" "${MPIEXEC[@]}" -n "$p" "$work/floor_inspect" "$cube"
     done
+    echo "  repeat $rep: helmix inspect and floor, 1 rank x 2 threads" >&2
+    # --bind-to none: Open MPI binds a lone rank to one core, where 2 threads would share it
+    run_one inspect_t2 1 "$rep" \
+        "${MPIEXEC[@]}" --bind-to none -n 1 "$HELMIX" inspect "$cube" --quiet --json "$work/out.json" --threads 2
+    run_one floor_t2 1 "$rep" env OMP_NUM_THREADS=2 "${MPIEXEC[@]}" --bind-to none -x OMP_NUM_THREADS -n 1 \
+        "$work/floor_inspect" "$cube"
     echo "  repeat $rep: helmix inspect --plot, 2 ranks" >&2
     run_one inspect_plot 2 "$rep" \
         "${MPIEXEC[@]}" -n 2 "$HELMIX" inspect "$cube" --quiet --json "$work/out.json" --plot "$work/out.png"

@@ -140,9 +140,20 @@ INI
   echo "$f"
 }
 
+# Open MPI's mpiexec binds each rank to one core (its default for 2 ranks or fewer), which
+# leaves threads nothing to run on: with T > 1 threads a rank gets T cores (--map-by slot:PE=T
+# in a batch job) or no binding at all (--bind-to none on one machine, where ranks x threads
+# may exceed the cores). A launcher given with its own binding, and srun, are left as they are.
+bind_flags() { # mode threads launcher
+  [ "$2" -gt 1 ] || return 0
+  case "$3" in *--bind-to*|*--map-by*|*srun*) return 0 ;; *mpiexec*|*mpirun*) ;; *) return 0 ;; esac
+  if [ "$1" = local ]; then echo " --bind-to none"; else echo " --map-by slot:PE=$2"; fi
+}
+
 # The shell commands of one point, the same for every mode; $1 launcher.
 point_commands() {
   local launch=$1 tag=$2 n=$3 p=$4 t=$5 rec cube
+  launch="$launch$(bind_flags "$mode" "$t" "$launch")"
   rec=$(recipe "$n")
   cube="$out/cubes/$tag.h5"
   local thr=""

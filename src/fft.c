@@ -1,9 +1,11 @@
 /* fft.c — FFTW set-up shared by make and inspect: threads, planning effort, wisdom.
  * Invariant: rank 0 alone touches the wisdom file; what it found is agreed before any rank
  * broadcasts or plans. */
+#define _GNU_SOURCE /* sched_getaffinity, CPU_COUNT */
 #include "helmix/fft.h"
 
 #include <fftw3-mpi.h>
+#include <sched.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -20,6 +22,33 @@ int hx_fft_effort_parse(const char *s)
     for (int i = 0; i <= HX_EFFORT_PATIENT; i++)
         if (s && !strcmp(s, effort_names[i])) return i;
     return -1;
+}
+
+hx_status hx_fft_cores(MPI_Comm comm, int *cores)
+{
+    hx_status st = HX_OK;
+    cpu_set_t set;
+    CPU_ZERO(&set);
+    int n = sched_getaffinity(0, sizeof set, &set) == 0 ? CPU_COUNT(&set) : 0;
+    if (n < 1) { /* no mask to read: the processors the system has online */
+        long online = sysconf(_SC_NPROCESSORS_ONLN);
+        n = online > 0 ? (int)online : 1;
+    }
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &n, 1, MPI_INT, MPI_MIN, comm));
+    *cores = n;
+fail:
+    return st;
+}
+
+int hx_fft_threads_warning(int threads, int cores, char *msg, size_t len)
+{
+    if (threads <= cores) return 0;
+    snprintf(msg, len,
+             "warning: %d threads per rank, but a rank may run on only %d CPU%s (its affinity mask): the threads "
+             "share %s. Give each rank %d cores: mpiexec --bind-to none or --map-by slot:PE=%d (Open MPI), "
+             "srun --cpus-per-task=%d (Slurm)",
+             threads, cores, cores == 1 ? "" : "s", cores == 1 ? "it" : "them", threads, threads, threads);
+    return 1;
 }
 
 unsigned hx_fft_flags(const hx_run_opts *o)

@@ -20,6 +20,7 @@
 #include <string.h>
 
 #include "check.h"
+#include "helmix/fft.h"
 #include "helmix/schema.h"
 
 enum { PV = 0, PW = 3, PDIV = 6, NPLANE = 7 }; /* plane slots: v xyz, vorticity xyz, divergence */
@@ -52,7 +53,15 @@ typedef struct {
     const char *file, *density; /* for messages */
     hx_timer *T;       /* phase timings, or NULL */
     double grad2, div2; /* local sums of |k|^2 |v̂|^2 and |k·v̂|^2 (both halves) */
+    int nthreads;      /* threads of the k-space passes (planes in groups, one per thread)  */
+    int nshell;        /* shells of the per-plane sums                                      */
+    double *ps;        /* per thread: a plane's shell sums (PS_* blocks of nshell) + 2 scalars */
 } work_t;
+
+/* One plane's sums in a thread's block of W->ps: energy, modes and compressive energy per
+ * shell, then the gradient and divergence sums. */
+enum { PS_E = 0, PS_MODES = 1, PS_COMP = 2, PS_NBLOCK = 3 };
+static inline double *plane_sums(const work_t *W, int t) { return W->ps + (size_t)t * (PS_NBLOCK * (size_t)W->nshell + 2); }
 
 /* One mode of the local k-space slab. */
 typedef struct {
@@ -129,68 +138,101 @@ static int shells_needed(const hx_grid *g)
     return (int)(sqrt(k2) + 0.5) + 2;
 }
 
-/* Accumulate component c (its transform in slab A) into shells, B and the planes. */
-static void accumulate(work_t *W, int c, hx_diag *d)
+/* Accumulate plane y of component c (its transform in slab A) into the plane's sums ps, B
+ * and the mid-plane spectra. Touches only plane y's part of A, B, the partners and P. */
+static void accumulate_plane(work_t *W, int c, ptrdiff_t y, double *ps)
 {
     const hx_grid *g = &W->g;
     const double inv_n = 1.0 / (double)hx_grid_cells(g), l2 = W->f.ell * W->f.ell;
     double complex *A = (double complex *)W->a, *B = (double complex *)W->b, *P = (double complex *)W->planes;
+    double *shell_e = ps + PS_E * W->nshell, *shell_modes = ps + PS_MODES * W->nshell, grad2 = 0;
     ptrdiff_t plane = g->ny * g->nxc;
-    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
-        for (ptrdiff_t z = 0; z < g->n[2]; z++)
-            for (ptrdiff_t x = 0; x < g->nxc; x++) {
-                ptrdiff_t i = ((y - g->y0) * g->n[2] + z) * g->nxc + x;
-                kmode_t m;
-                kmode(W, y, z, x, &m);
-                double complex X = A[i] * inv_n;
-                if (W->f.ell > 0) X *= 1.0 - exp(-0.5 * m.k2p * l2);
-                A[i] = X; /* kept for the inverse transform of --remove-scale */
-                if (m.k2p == 0) continue;
-                double e = creal(X * conj(X));
-                d->shell_e[m.shell] += 0.5 * m.w * e;
-                if (c == 0) d->shell_modes[m.shell] += m.w;
-                W->grad2 += m.w * m.k2p * e;
-                B[i] += m.kp[c] * X; /* k·v̂, divided by |k| only once at the end */
-                if (m.partner) { /* the partner holds conj(X) at its own wavevector */
-                    double kq[3];
-                    partner_k(W, y, z, &m, kq);
-                    *m.partner += kq[c] * conj(X);
-                }
-                if (!W->f.slices) continue;
-                ptrdiff_t p = (y - g->y0) * g->nxc + x;
-                double complex iX = I * X * m.zph;
-                /* vorticity i k x v̂: v_c adds +i k_{c+2} v_c to w_{c+1} and -i k_{c+1} v_c to w_{c+2} */
-                int c1 = (c + 1) % 3, c2 = (c + 2) % 3;
-                P[(PV + c) * plane + p] += X * m.zph;
-                P[(PW + c1) * plane + p] += m.kp[c2] * iX;
-                P[(PW + c2) * plane + p] -= m.kp[c1] * iX;
+    for (ptrdiff_t z = 0; z < g->n[2]; z++)
+        for (ptrdiff_t x = 0; x < g->nxc; x++) {
+            ptrdiff_t i = ((y - g->y0) * g->n[2] + z) * g->nxc + x;
+            kmode_t m;
+            kmode(W, y, z, x, &m);
+            double complex X = A[i] * inv_n;
+            if (W->f.ell > 0) X *= 1.0 - exp(-0.5 * m.k2p * l2);
+            A[i] = X; /* kept for the inverse transform of --remove-scale */
+            if (m.k2p == 0) continue;
+            double e = creal(X * conj(X));
+            shell_e[m.shell] += 0.5 * m.w * e;
+            if (c == 0) shell_modes[m.shell] += m.w;
+            grad2 += m.w * m.k2p * e;
+            B[i] += m.kp[c] * X; /* k·v̂, divided by |k| only once at the end */
+            if (m.partner) { /* the partner holds conj(X) at its own wavevector */
+                double kq[3];
+                partner_k(W, y, z, &m, kq);
+                *m.partner += kq[c] * conj(X);
             }
+            if (!W->f.slices) continue;
+            ptrdiff_t p = (y - g->y0) * g->nxc + x;
+            double complex iX = I * X * m.zph;
+            /* vorticity i k x v̂: v_c adds +i k_{c+2} v_c to w_{c+1} and -i k_{c+1} v_c to w_{c+2} */
+            int c1 = (c + 1) % 3, c2 = (c + 2) % 3;
+            P[(PV + c) * plane + p] += X * m.zph;
+            P[(PW + c1) * plane + p] += m.kp[c2] * iX;
+            P[(PW + c2) * plane + p] -= m.kp[c1] * iX;
+        }
+    ps[PS_NBLOCK * W->nshell] = grad2;
 }
 
-/* After the three components: compressive energy |k·v̂|^2/|k|^2 and divergence from B = k·v̂. */
-static void accumulate_div(work_t *W, hx_diag *d)
+/* After the three components, plane y: compressive energy |k·v̂|^2/|k|^2 and divergence from
+ * B = k·v̂ into the plane's sums ps, and the divergence's mid-plane spectrum. */
+static void div_plane(work_t *W, ptrdiff_t y, double *ps)
 {
     const hx_grid *g = &W->g;
     double complex *B = (double complex *)W->b, *P = (double complex *)W->planes;
+    double *shell_comp = ps + PS_COMP * W->nshell, div2 = 0;
     ptrdiff_t plane = g->ny * g->nxc;
-    for (ptrdiff_t y = g->y0; y < g->y0 + g->ny; y++)
-        for (ptrdiff_t z = 0; z < g->n[2]; z++)
-            for (ptrdiff_t x = 0; x < g->nxc; x++) {
-                kmode_t m;
-                kmode(W, y, z, x, &m);
-                if (m.k2p == 0) continue;
-                double complex D = B[((y - g->y0) * g->n[2] + z) * g->nxc + x];
-                double e = creal(D * conj(D)), wt = m.w, inv = 1.0 / m.k2p;
-                if (m.partner) { /* count the stored mode once and its partner with its own projection */
-                    double ep = creal(*m.partner * conj(*m.partner));
-                    d->shell_comp[m.shell] += 0.5 * ep * inv;
-                    W->div2 += ep;
-                    wt = 1.0;
-                }
-                d->shell_comp[m.shell] += 0.5 * wt * e * inv;
-                W->div2 += wt * e;
-                if (W->f.slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * D * m.zph;
+    for (ptrdiff_t z = 0; z < g->n[2]; z++)
+        for (ptrdiff_t x = 0; x < g->nxc; x++) {
+            kmode_t m;
+            kmode(W, y, z, x, &m);
+            if (m.k2p == 0) continue;
+            double complex D = B[((y - g->y0) * g->n[2] + z) * g->nxc + x];
+            double e = creal(D * conj(D)), wt = m.w, inv = 1.0 / m.k2p;
+            if (m.partner) { /* count the stored mode once and its partner with its own projection */
+                double ep = creal(*m.partner * conj(*m.partner));
+                shell_comp[m.shell] += 0.5 * ep * inv;
+                div2 += ep;
+                wt = 1.0;
             }
+            shell_comp[m.shell] += 0.5 * wt * e * inv;
+            div2 += wt * e;
+            if (W->f.slices) P[PDIV * plane + (y - g->y0) * g->nxc + x] += I * D * m.zph;
+        }
+    ps[PS_NBLOCK * W->nshell + 1] = div2;
+}
+
+/* One pass over the local k-space planes: component c's sums (c = 0..2) or, after the three,
+ * the compressive ones (c < 0). Planes go to the threads in groups; each plane's sums are
+ * added to d's in plane order after its group, so every thread count gives the same bits. */
+static void each_plane(work_t *W, int c, hx_diag *d)
+{
+    const hx_grid *g = &W->g;
+    const int ns = W->nshell;
+    for (ptrdiff_t y0 = 0; y0 < g->ny; y0 += W->nthreads) {
+        int m = g->ny - y0 < W->nthreads ? (int)(g->ny - y0) : W->nthreads;
+#pragma omp parallel for num_threads(m) schedule(static, 1) if (m > 1)
+        for (int j = 0; j < m; j++) {
+            double *ps = plane_sums(W, j);
+            memset(ps, 0, (PS_NBLOCK * (size_t)ns + 2) * sizeof *ps);
+            if (c < 0) div_plane(W, g->y0 + y0 + j, ps);
+            else accumulate_plane(W, c, g->y0 + y0 + j, ps);
+        }
+        for (int j = 0; j < m; j++) {
+            const double *ps = plane_sums(W, j);
+            for (int s = 0; s < ns; s++) {
+                d->shell_e[s] += ps[PS_E * ns + s];
+                d->shell_modes[s] += ps[PS_MODES * ns + s];
+                d->shell_comp[s] += ps[PS_COMP * ns + s];
+            }
+            W->grad2 += ps[PS_NBLOCK * ns];
+            W->div2 += ps[PS_NBLOCK * ns + 1];
+        }
+    }
 }
 
 /* Gather the mid-plane spectra on rank 0 and turn them into speed, divergence and |vorticity|. */
@@ -313,11 +355,13 @@ static hx_status setup(work_t *W, const hx_inspect_opts *o, hx_cube *cube, MPI_C
     W->b = fftw_alloc_complex((size_t)g->alloc);
     if (o->slices) W->planes = fftw_alloc_complex((size_t)(NPLANE * (g->ny > 0 ? g->ny : 1) * g->nxc));
     HX_TRY(hx_error_agree(comm, tables(W)));
+    W->nshell = shells_needed(g);
+    W->ps = malloc((size_t)W->nthreads * (PS_NBLOCK * (size_t)W->nshell + 2) * sizeof *W->ps);
     W->pny = fftw_alloc_complex((size_t)(g->n[2] * g->nxc));
     W->pnz = fftw_alloc_complex((size_t)((g->ny > 0 ? g->ny : 1) * g->nxc));
     int has_rho = hx_cube_has_density(cube);
     if (has_rho) W->rho = malloc((size_t)(g->nz > 0 ? g->nz : 1) * (size_t)g->n[1] * (size_t)g->n[0] * sizeof(double));
-    if (!W->a || !W->b || !W->pny || !W->pnz || (o->slices && !W->planes) || (has_rho && !W->rho))
+    if (!W->a || !W->b || !W->ps || !W->pny || !W->pnz || (o->slices && !W->planes) || (has_rho && !W->rho))
         st = hx_error_set(HX_ERR_MEM, "cannot allocate the analysis slabs (%.1f MiB each) on rank %d",
                           (double)g->alloc * 16.0 / 1048576.0, g->rank);
     HX_TRY(hx_error_agree(comm, st));
@@ -340,6 +384,7 @@ static void teardown(work_t *W)
     fftw_free(W->pny);
     fftw_free(W->pnz);
     free(W->rho);
+    free(W->ps);
     for (int a = 0; a < 3; a++) {
         free(W->kp[a]);
         free(W->ku[a]);
@@ -534,7 +579,7 @@ static hx_status analyse_field(work_t *W, hx_cube *cube, const hx_log *log, hx_d
         HX_TRY(st);
         transform(W, W->r2c);
         hx_timer_begin(W->T, "accumulate");
-        accumulate(W, c, d);
+        each_plane(W, c, d);
         hx_timer_end(W->T, "accumulate", 0, 0);
         if (W->f.ell > 0) {
             transform(W, W->c2r);
@@ -546,7 +591,7 @@ static hx_status analyse_field(work_t *W, hx_cube *cube, const hx_log *log, hx_d
         hx_log_say(log, HX_LOG_INFO, "%s component %c analysed", W->f.what, "xyz"[c]);
     }
     hx_timer_begin(W->T, "accumulate");
-    accumulate_div(W, d);
+    each_plane(W, -1, d);
     if (W->f.state) HX_TRY(state_finish(W, d));
     int ns = d->nshell;
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, d->shell_e, ns, MPI_DOUBLE, MPI_SUM, comm));
@@ -707,7 +752,11 @@ hx_status hx_inspect_run(const hx_inspect_opts *o, const hx_log *log, MPI_Comm c
     W.radius = state.radius;
     hx_timer_end(W.T, "open", 0, 0); /* metadata only: the datasets are read (and counted) later */
     hx_timer_begin(W.T, "plan");
-    st = setup(&W, o, cube, comm);
+    hx_run_opts run = hx_run_defaults();
+    run.threads = o->threads;
+    W.nthreads = hx_fft_threads(&run);
+    st = hx_fft_begin(&run, comm);
+    if (st == HX_OK) st = setup(&W, o, cube, comm);
     hx_timer_end(W.T, "plan", 0, 0);
     HX_TRY(st);
     const hx_grid *g = &W.g;

@@ -274,6 +274,7 @@ typedef struct run_t {
     double *rho;   /* this rank's density (nz * Ny * Nx), NULL without one */
     hx_make_result res;
     hx_timer *timer;
+    int threads;   /* per rank, resolved (hx_fft_threads) */
 } run_t;
 
 /* Write component c of field id (from doubles, or in the file's precision) as phase "write". */
@@ -661,6 +662,7 @@ static hx_status analyse_written(run_t *R, hx_diag *diag)
     o.cube.density = R->r->weight == HX_WEIGHT_MASS ? dens : NULL;
     o.fit[0] = R->r->spectrum.kmin;
     o.fit[1] = R->r->spectrum.kmax;
+    o.threads = R->threads;
     HX_TRY(hx_io_pause(R->io));
     hx_diag_clear(diag);
     double t = MPI_Wtime();
@@ -737,9 +739,15 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
 
     hx_timer *tm = run ? run->timer : NULL;
     R.timer = tm;
+    R.threads = hx_fft_threads(run);
     HX_TRY(hx_io_check_target(r->file, force, comm));
     hx_timer_begin(tm, "plan");
     HX_TRY(hx_fft_begin(run, comm));
+    int cores = 1;
+    char warn[400];
+    HX_TRY(hx_fft_cores(comm, &cores));
+    if (hx_fft_threads_warning(R.threads, cores, warn, sizeof warn)) hx_log_say(log, HX_LOG_QUIET, "%s", warn);
+    hx_timer_note(tm, "cores_per_rank", cores);
     HX_TRY(hx_grid_init(&R.g, r->cells, r->box, comm));
     HX_TRY(hx_error_agree(comm, hx_cloud_init(&R.cloud, r)));
     HX_TRY(hx_spectrum_create(&sp, &r->spectrum, comm));

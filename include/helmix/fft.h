@@ -6,6 +6,7 @@
 #define HELMIX_FFT_H
 
 #include <mpi.h>
+#include <stddef.h>
 
 #include "helmix/error.h"
 #include "helmix/run.h"
@@ -24,6 +25,14 @@ unsigned hx_fft_flags(const hx_run_opts *o);
 
 /* The threads per rank a run uses (resolved: >= 1). */
 int hx_fft_threads(const hx_run_opts *o);
+
+/* Collective: the fewest CPUs any rank of comm may run on (its affinity mask; the online
+ * processors where there is none). A launcher that binds each rank to one core (Open MPI's
+ * default for 2 ranks or fewer) leaves threads nothing to gain. */
+hx_status hx_fft_cores(MPI_Comm comm, int *cores);
+
+/* 1 and the warning text in msg when threads per rank exceed cores, else 0. Not collective. */
+int hx_fft_threads_warning(int threads, int cores, char *msg, size_t len);
 
 /* The name of an effort ("estimate", "measure", "patient") and the effort of a name (-1 if
  * none). */

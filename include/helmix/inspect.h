@@ -27,6 +27,8 @@ typedef struct hx_inspect_opts {
                           * else 1 (c_s is then the isothermal sound speed)                   */
     hx_timer *timer;     /* phase timings (open, plan, read, moments, transform, accumulate,
                           * slices, finish), or NULL for none                                   */
+    int threads;         /* threads per rank for FFTW and the k-space passes; 0: OMP_NUM_THREADS,
+                          * else 1. Every count gives the same bits                            */
 } hx_inspect_opts;
 
 /* Collective: analyse the cube of o into d (arrays allocated here; hx_diag_clear frees); with

@@ -9,6 +9,7 @@
 
 #include "cli.h"
 #include "options.h"
+#include "helmix/fft.h"
 #include "helmix/inspect.h"
 #include "helmix/io.h"
 #include "helmix/plot.h"
@@ -16,7 +17,8 @@
 
 enum {
     O_VECTOR, O_ORDER, O_BOX, O_DENSITY, O_MAGNETIC, O_MAGNETIC_FACE, O_SOUND_SPEED, O_GRAVITY, O_GAMMA, O_REMOVE_SCALE,
-    O_FIT, O_CHECK, O_VERIFY, O_EXPECT, O_TOLERANCE, O_JSON, O_CSV, O_PLOT, O_TIMINGS, O_QUIET, O_VERBOSE, O_HELP
+    O_FIT, O_CHECK, O_VERIFY, O_EXPECT, O_TOLERANCE, O_JSON, O_CSV, O_PLOT, O_TIMINGS, O_THREADS, O_QUIET, O_VERBOSE,
+    O_HELP
 };
 
 static const hx_opt inspect_options[] = {
@@ -76,6 +78,9 @@ static const hx_opt inspect_options[] = {
     {"timings", 0, "FILE.json", O_TIMINGS, 0,
      "wall time, bytes read and transforms per phase (open, plan, read,\nmoments, transform, accumulate, slices, "
      "finish, report), min/mean/max\nover the ranks, and peak memory per rank (docs/timings.schema.json)"},
+    {"", 0, NULL, 0, 0, "running:"},
+    {"threads", 0, "T", O_THREADS, 0,
+     "threads per rank for FFTW and the k-space sums (default:\nOMP_NUM_THREADS, else 1); every count gives the same numbers"},
     {"quiet", 'q', NULL, O_QUIET, 0, "no progress lines"},
     {"verbose", 'v', NULL, O_VERBOSE, 0, "also the options as read: datasets, box, fit band, what --check compares"},
     {"help", 'h', NULL, O_HELP, 0, "this text"},
@@ -152,6 +157,14 @@ static hx_status inspect_option(void *ctx, const hx_opt *opt, const char *val)
     case O_QUIET: a->verbosity = HX_LOG_QUIET; break;
     case O_VERBOSE: a->verbosity = HX_LOG_DEBUG; break;
     case O_HELP: a->help = 1; break;
+    case O_THREADS: {
+        char *end = NULL;
+        long t = strtol(val, &end, 10);
+        if (!end || *end || t < 1 || t > 4096)
+            return hx_error_set(HX_ERR_ARG, "--threads %s: give a whole number from 1 to 4096", val);
+        o->threads = (int)t;
+        break;
+    }
     case O_ORDER:
         if (!strcmp(val, "zyx")) o->cube.order = HX_ORDER_ZYX;
         else if (!strcmp(val, "xyz")) o->cube.order = HX_ORDER_XYZ;
@@ -284,16 +297,23 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
             return HX_EXIT_CHECK;
         }
     }
+    hx_run_opts run = hx_run_defaults();
+    run.threads = a.o.threads;
+    int cores = 1;
+    if ((st = hx_fft_cores(comm, &cores)) != HX_OK) return hx_cli_fail(st, rank);
     hx_timer *timer = NULL;
     if (a.timings) {
         st = hx_error_agree(comm, hx_timer_create(&timer, "inspect"));
         if (st != HX_OK) return hx_cli_fail(st, rank);
         hx_timer_note_text(timer, "file", a.o.cube.file);
-        hx_timer_note(timer, "threads", 1); /* inspect runs one thread per rank */
+        hx_timer_note(timer, "threads", hx_fft_threads(&run));
+        hx_timer_note(timer, "cores_per_rank", cores);
         a.o.timer = timer;
     }
     hx_log log;
     hx_log_init(&log, comm, a.verbosity, stderr);
+    char warn[400];
+    if (hx_fft_threads_warning(hx_fft_threads(&run), cores, warn, sizeof warn)) hx_log_say(&log, HX_LOG_QUIET, "%s", warn);
     say_options(&log, &a);
     hx_diag d;
     hx_request q;

@@ -133,11 +133,20 @@ def answer(v, box, remove_scale=None, rho=None):
     }
 
 
+# helmix states vorticity_rms as (sum |k|^2 |v_hat|^2 - sum |k . v_hat|^2)^(1/2): a difference
+# of two sums of positive terms, each exact to a few n eps of the squared rms gradient, so the
+# root is exact only to about sqrt(n eps) ~ 1e-7 of the rms gradient where the field is (nearly)
+# curl-free (Higham 2002, Accuracy and Stability of Numerical Algorithms, ch. 4, from memory).
+# Its deviation is judged beyond that resolution; numpy takes |k x v_hat| mode by mode.
+VORTICITY_RESOLUTION = 1e-7
+
+
 def compare(stated, ours):
     """Largest deviation of a stated answer from ours, each scaled as the test judges it:
     the share absolutely, energies and shell energies relative to the total energy, the rms
-    divergence and vorticity relative to the rms gradient (sum |k|^2 |v_hat|^2)^(1/2); mode
-    counts must agree exactly. Returns (worst, where, modes_ok)."""
+    divergence and vorticity relative to the rms gradient (sum |k|^2 |v_hat|^2)^(1/2), the
+    vorticity's less VORTICITY_RESOLUTION; mode counts must agree exactly. Returns (worst,
+    where, modes_ok)."""
     et = max(ours["energy_total"], 1e-300)
     grad = max(np.hypot(ours["divergence_rms"], ours["vorticity_rms"]), 1e-300)
     scale = {"compressive_share": 1.0, "energy_total": et, "energy_compressive": et, "energy_solenoidal": et,
@@ -145,6 +154,8 @@ def compare(stated, ours):
     worst, where = 0.0, ""
     for key in ANSWER_KEYS:
         d = abs(stated[key] - ours[key]) / scale[key]
+        if key == "vorticity_rms":
+            d = max(d - VORTICITY_RESOLUTION, 0.0)
         if d > worst:
             worst, where = d, key
     modes_ok = len(stated["shells"]) == len(ours["shells"])

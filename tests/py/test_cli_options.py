@@ -59,7 +59,7 @@ OPTIONS = {
                 "--magnetic": "/a,/b,/c", "--magnetic-face": "/d,/e,/f", "--sound-speed": "1",
                 "--gravity": "1", "--gamma": "1.4", "--remove-scale": "0.1", "--fit": "2,6", "--check": None, "--verify": None,
                 "--expect": "fraction=0.3", "--tolerance": "fraction=0.01", "--json": "r.json", "--csv": "r.csv",
-                "--plot": "r.png", "--timings": "t.json", "--quiet": None, "--verbose": None, "--help": None},
+                "--plot": "r.png", "--timings": "t.json", "--threads": "2", "--quiet": None, "--verbose": None, "--help": None},
     "suite": {"--cells": "32", "--ranks-hint": "3", "--quick": None, "--force": None, "--quiet": None,
               "--verbose": None, "--help": None},
     "score": {"--json": "s.json", "--plot": "s.png", "--quiet": None, "--help": None},

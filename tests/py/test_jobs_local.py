@@ -108,6 +108,16 @@ def body(args, hx, c):
     c.check("cubes removed, no error in the logs", cubes == [] and "error" not in logs.lower(), f"{cubes} {logs[:300]}")
     p = sh(args, ["--local", "--cells", "32", "--ranks", "1", "--out", out, "--helmix", args.helmix])
     c.check("an output directory holding a study is refused (exit 2)", p.returncode == 2 and "already holds" in p.stderr, p.stderr)
+    # threads: Open MPI's mpiexec would bind the lone rank to one core; the kit unbinds it, so
+    # the rank may run on every CPU this test may (its own affinity mask)
+    tout = hx.path("study_threads")
+    p = sh(args, ["--local", "--cells", "32", "--ranks", "1", "--threads", "2", "--out", tout, "--helmix", args.helmix])
+    tj = os.path.join(tout, "timings", "make_n32_p1_t2.json")
+    notes = json.load(open(tj)).get("notes", {}) if os.path.exists(tj) else {}
+    mine = len(os.sched_getaffinity(0))
+    c.check("--local --threads 2: the rank runs unbound (cores_per_rank is this process's CPU count) with 2 threads",
+            p.returncode == 0 and notes.get("cores_per_rank") == mine and json.load(open(tj)).get("threads") == 2,
+            f"rc={p.returncode} notes {notes} own CPUs {mine} {p.stderr[-300:]}", "Open MPI mpiexec(1): --bind-to none")
 
     batch_and_options(args, hx, c, timed=True)
 
@@ -158,6 +168,13 @@ def batch_and_options(args, hx, c, timed):
     c.check("--pbs --no-submit: 2 nodes of 48 ranks for 64, nothing submitted", p.returncode == 0 and
             "select=2:ncpus=48:mpiprocs=48:ompthreads=1" in text and "qsub" in p.stdout and len(open(calls).read().splitlines()) == 3,
             f"rc={p.returncode} {p.stdout[-300:]}")
+    po = hx.path("pbs_threads")
+    p = sh(args, ["--pbs", "--no-submit", "--cells", "64", "--ranks", "8", "--threads", "4", "--out", po,
+                  "--helmix", args.helmix], env_extra={"PATH": fake + os.pathsep + os.environ["PATH"]})
+    f = os.path.join(po, "batch", "n64_p8_t4.pbs")
+    text = open(f).read() if os.path.exists(f) else ""
+    c.check("--pbs --threads 4: mpiexec gives each rank 4 cores (--map-by slot:PE=4)", p.returncode == 0 and
+            "--map-by slot:PE=4 -n 8 " in text, text[-400:], "Open MPI mpiexec(1): --map-by slot:PE=n")
 
 
 

@@ -6,7 +6,8 @@
     validator for the keywords the schema uses is below, since no jsonschema package is at hand);
   * both runs hold the same cubes, bit for bit, and the same answers;
   * every stated answer (and variant) equals the numpy recomputation of suite_oracle.py from the
-    file: to 1e-10 for double-precision data, 1e-6 for single;
+    file: to 1e-10 for double-precision data, 1e-6 for single (the rms vorticity beyond its
+    resolution of 1e-7 of the rms gradient, see suite_oracle.py);
   * the real-space parts add up to the field and each is pure (spectral divergence or curl);
   * the textbook flows match their closed forms: Arnold-Beltrami-Childress divergence-free with
     v = curl v / k (Dombre et al. 1986, J. Fluid Mech. 167, 353), Taylor-Green divergence-free
@@ -217,7 +218,8 @@ def check_ranks(c, d1, d3, m1, m3):
         if name in n3:
             for ans1, ans3 in [(cube["answer"], n3[name]["answer"])] + \
                     [(cube["variants"][k]["answer"], n3[name]["variants"][k]["answer"]) for k in cube["variants"]]:
-                worst_a = max(worst_a, O.compare(ans1, ans3)[0])
+                # compare() allows the vorticity its resolution: here every number must agree exactly
+                worst_a = max(worst_a, O.compare(ans1, ans3)[0], abs(ans1["vorticity_rms"] - ans3["vorticity_rms"]))
     c.check("every answer on 3 ranks equals the 1-rank answer exactly", worst_a == 0.0,
             f"largest {worst_a:.1e}", "helmix specification")
 
