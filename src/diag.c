@@ -52,38 +52,79 @@ static inline double value_at(const void *data, hx_precision prec, int64_t i)
     return prec == HX_PREC_DOUBLE ? ((const double *)data)[i] : (double)((const float *)data)[i];
 }
 
-hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec, int64_t rows, int64_t nx,
-                          int64_t stride, int64_t ntotal, MPI_Comm comm)
+/* Rows per block: the unit of the moment sums. Blocks go to the threads in groups; each
+ * block's sums are added in block order, so every thread count gives the same bits. */
+enum { MOMENT_BLOCK_ROWS = 64 };
+
+/* The raw sums (sum v, sum v^2) of rows [r0, r1), in four lanes as in hx_moments. */
+static void raw_sums(const void *data, hx_precision prec, int64_t r0, int64_t r1, int64_t nx, int64_t stride, double s[2])
 {
-    hx_status st = HX_OK;
-    double s[2] = {0, 0}, p[4][2] = {{0}}; /* four lanes, as in hx_moments */
-    for (int64_t r = 0; r < rows; r++)
+    double p[4][2] = {{0}};
+    for (int64_t r = r0; r < r1; r++)
         for (int64_t i = 0; i < nx; i++) {
             double v = value_at(data, prec, r * stride + i);
             p[i & 3][0] += v;
             p[i & 3][1] += v * v;
         }
+    s[0] = s[1] = 0;
     for (int l = 0; l < 4; l++) s[0] += p[l][0], s[1] += p[l][1];
+}
+
+/* Add the lanes of src to those of dst (before hx_moments_reduce). */
+static void moments_merge(hx_moments *dst, const hx_moments *src)
+{
+    for (int l = 0; l < HX_MOMENT_LANES; l++) {
+        for (int p = 0; p < 4; p++) dst->lane[l][p] += src->lane[l][p];
+        for (int b = 0; b < HX_DIAG_BINS; b++) dst->lane_hist[l][b] += src->lane_hist[l][b];
+    }
+}
+
+hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec, int64_t rows, int64_t nx,
+                          int64_t stride, int64_t ntotal, int threads, MPI_Comm comm)
+{
+    hx_status st = HX_OK;
+    const int T = threads > 1 ? threads : 1;
+    const int64_t nblock = (rows + MOMENT_BLOCK_ROWS - 1) / MOMENT_BLOCK_ROWS;
+    double s[2] = {0, 0}, (*bs)[2] = malloc((size_t)T * sizeof *bs);
+    hx_moments *acc = malloc((size_t)(T + 1) * sizeof *acc), *part = acc ? acc + 1 : NULL;
+    HX_TRY(hx_error_agree(comm, bs && acc ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for moment sums")));
+    for (int64_t b0 = 0; b0 < nblock; b0 += T) {
+        int m = nblock - b0 < T ? (int)(nblock - b0) : T;
+#pragma omp parallel for num_threads(m) schedule(static, 1) if (m > 1)
+        for (int j = 0; j < m; j++) {
+            int64_t r0 = (b0 + j) * MOMENT_BLOCK_ROWS, r1 = r0 + MOMENT_BLOCK_ROWS < rows ? r0 + MOMENT_BLOCK_ROWS : rows;
+            raw_sums(data, prec, r0, r1, nx, stride, bs[j]);
+        }
+        for (int j = 0; j < m; j++) s[0] += bs[j][0], s[1] += bs[j][1];
+    }
     HX_MPI(MPI_Allreduce(MPI_IN_PLACE, s, 2, MPI_DOUBLE, MPI_SUM, comm));
     double n = (double)ntotal, m = s[0] / n;
     /* the spread for the PDF bins from the raw sums; the moments themselves from the second,
      * centred pass, so they keep their digits when the mean is large */
     double sd0 = sqrt(fmax(s[1] / n - m * m, 0.0));
-    hx_moments *acc = malloc(sizeof *acc);
-    HX_TRY(hx_error_agree(comm, acc ? HX_OK : hx_error_set(HX_ERR_MEM, "out of memory for moment sums")));
     hx_moments_init(acc, m, sd0);
     acc->n = n;
-    for (int64_t r = 0; r < rows; r++) {
-        if (prec == HX_PREC_DOUBLE) hx_moments_add_doubles(acc, (const double *)data + r * stride, nx);
-        else hx_moments_add_floats(acc, (const float *)data + r * stride, nx);
+    for (int64_t b0 = 0; b0 < nblock; b0 += T) {
+        int k = nblock - b0 < T ? (int)(nblock - b0) : T;
+#pragma omp parallel for num_threads(k) schedule(static, 1) if (k > 1)
+        for (int j = 0; j < k; j++) {
+            int64_t r0 = (b0 + j) * MOMENT_BLOCK_ROWS, r1 = r0 + MOMENT_BLOCK_ROWS < rows ? r0 + MOMENT_BLOCK_ROWS : rows;
+            hx_moments_init(&part[j], m, sd0);
+            for (int64_t r = r0; r < r1; r++) {
+                if (prec == HX_PREC_DOUBLE) hx_moments_add_doubles(&part[j], (const double *)data + r * stride, nx);
+                else hx_moments_add_floats(&part[j], (const float *)data + r * stride, nx);
+            }
+        }
+        for (int j = 0; j < k; j++) moments_merge(acc, &part[j]);
     }
     st = hx_moments_reduce(acc, comm);
     if (st == HX_OK) hx_diag_set_moments(d, c, acc);
-    free(acc);
     HX_TRY(st);
     d->rms[c] = sqrt(s[1] / n);
     if (!(sd0 > 0)) memset(d->pdf[c], 0, sizeof d->pdf[c]);
 fail:
+    free(bs);
+    free(acc);
     return st;
 }
 

@@ -574,7 +574,7 @@ static hx_status analyse_field(work_t *W, hx_cube *cube, const hx_log *log, hx_d
     for (int c = 0; c < 3; c++) {
         HX_TRY(load(W, cube, c));
         hx_timer_begin(W->T, "moments");
-        if (W->f.ell <= 0) st = hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm);
+        if (W->f.ell <= 0) st = hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, W->nthreads, comm);
         hx_timer_end(W->T, "moments", 0, 0);
         HX_TRY(st);
         transform(W, W->r2c);
@@ -584,7 +584,7 @@ static hx_status analyse_field(work_t *W, hx_cube *cube, const hx_log *log, hx_d
         if (W->f.ell > 0) {
             transform(W, W->c2r);
             hx_timer_begin(W->T, "moments");
-            st = hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, comm);
+            st = hx_diag_moments(d, c, W->a, HX_PREC_DOUBLE, g->nz * g->n[1], g->n[0], stride, ntot, W->nthreads, comm);
             hx_timer_end(W->T, "moments", 0, 0);
             HX_TRY(st);
         }

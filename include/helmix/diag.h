@@ -108,11 +108,12 @@ hx_status hx_diag_shells(hx_diag *d, int nshell);
 
 /* Collective: mean, rms, skewness, excess kurtosis and PDF of component c from this rank's
  * real values: rows rows of nx values each, rows `stride` elements apart, as float
- * (single) or double. ntotal is the global number of values. Three passes over the local
- * data (mean; central moments; histogram) so the moments do not lose digits to
- * cancellation. */
+ * (single) or double. ntotal is the global number of values. Two passes over the local
+ * data (mean and spread; central moments and histogram) so the moments do not lose digits
+ * to cancellation. Rows are summed in fixed blocks, `threads` blocks at a time, the blocks'
+ * sums added in block order: every thread count gives the same bits. */
 hx_status hx_diag_moments(hx_diag *d, int c, const void *data, hx_precision prec, int64_t rows, int64_t nx,
-                          int64_t stride, int64_t ntotal, MPI_Comm comm);
+                          int64_t stride, int64_t ntotal, int threads, MPI_Comm comm);
 
 /* One-pass moment sums for values whose centre and spread are known in advance (the
  * generator knows each component's variance from its k-space sums and its mean is zero):
