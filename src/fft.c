@@ -24,31 +24,44 @@ int hx_fft_effort_parse(const char *s)
     return -1;
 }
 
-hx_status hx_fft_cores(MPI_Comm comm, int *cores)
+hx_status hx_fft_cpus(MPI_Comm comm, hx_cpus *c)
 {
     hx_status st = HX_OK;
+    MPI_Comm node = MPI_COMM_NULL;
+    long online = sysconf(_SC_NPROCESSORS_ONLN);
     cpu_set_t set;
     CPU_ZERO(&set);
-    int n = sched_getaffinity(0, sizeof set, &set) == 0 ? CPU_COUNT(&set) : 0;
-    if (n < 1) { /* no mask to read: the processors the system has online */
-        long online = sysconf(_SC_NPROCESSORS_ONLN);
-        n = online > 0 ? (int)online : 1;
-    }
-    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, &n, 1, MPI_INT, MPI_MIN, comm));
-    *cores = n;
+    int v[3]; /* -(CPUs of this rank), -(CPUs of its node), ranks on its node: one MAX for all three */
+    v[1] = -(online > 0 ? (int)online : 1);
+    v[0] = sched_getaffinity(0, sizeof set, &set) == 0 && CPU_COUNT(&set) > 0 ? -CPU_COUNT(&set) : v[1];
+    HX_MPI(MPI_Comm_split_type(comm, MPI_COMM_TYPE_SHARED, 0, MPI_INFO_NULL, &node));
+    HX_MPI(MPI_Comm_size(node, &v[2]));
+    HX_MPI(MPI_Allreduce(MPI_IN_PLACE, v, 3, MPI_INT, MPI_MAX, comm));
+    c->cores = -v[0], c->node_cpus = -v[1], c->node_ranks = v[2];
 fail:
+    if (node != MPI_COMM_NULL) MPI_Comm_free(&node);
     return st;
 }
 
-int hx_fft_threads_warning(int threads, int cores, char *msg, size_t len)
+int hx_fft_threads_warning(int threads, const hx_cpus *c, char *msg, size_t len)
 {
-    if (threads <= cores) return 0;
-    snprintf(msg, len,
-             "warning: %d threads per rank, but a rank may run on only %d CPU%s (its affinity mask): the threads "
-             "share %s. Give each rank %d cores: mpiexec --bind-to none or --map-by slot:PE=%d (Open MPI), "
-             "srun --cpus-per-task=%d (Slurm)",
-             threads, cores, cores == 1 ? "" : "s", cores == 1 ? "it" : "them", threads, threads, threads);
-    return 1;
+    if (threads <= 1) return 0; /* more ranks than CPUs is the launcher's explicit choice (--oversubscribe) */
+    if (threads > c->cores && c->cores < c->node_cpus) {
+        snprintf(msg, len,
+                 "warning: %d threads per rank, but a rank may run on only %d CPU%s (its affinity mask): the threads "
+                 "share %s. Give each rank %d cores: mpiexec --bind-to none or --map-by slot:PE=%d (Open MPI), "
+                 "srun --cpus-per-task=%d (Slurm)",
+                 threads, c->cores, c->cores == 1 ? "" : "s", c->cores == 1 ? "it" : "them", threads, threads, threads);
+        return 1;
+    }
+    if ((long)threads * c->node_ranks > c->node_cpus) {
+        snprintf(msg, len,
+                 "warning: %d rank%s per node x %d threads = %ld, but a node has %d CPUs: the threads wait for each "
+                 "other (use fewer threads or fewer ranks per node)",
+                 c->node_ranks, c->node_ranks == 1 ? "" : "s", threads, (long)threads * c->node_ranks, c->node_cpus);
+        return 1;
+    }
+    return 0;
 }
 
 unsigned hx_fft_flags(const hx_run_opts *o)

@@ -743,11 +743,11 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     HX_TRY(hx_io_check_target(r->file, force, comm));
     hx_timer_begin(tm, "plan");
     HX_TRY(hx_fft_begin(run, comm));
-    int cores = 1;
+    hx_cpus cpus;
     char warn[400];
-    HX_TRY(hx_fft_cores(comm, &cores));
-    if (hx_fft_threads_warning(R.threads, cores, warn, sizeof warn)) hx_log_say(log, HX_LOG_QUIET, "%s", warn);
-    hx_timer_note(tm, "cores_per_rank", cores);
+    HX_TRY(hx_fft_cpus(comm, &cpus));
+    if (hx_fft_threads_warning(R.threads, &cpus, warn, sizeof warn)) hx_log_say(log, HX_LOG_QUIET, "%s", warn);
+    hx_timer_note(tm, "cores_per_rank", cpus.cores);
     HX_TRY(hx_grid_init(&R.g, r->cells, r->box, comm));
     HX_TRY(hx_error_agree(comm, hx_cloud_init(&R.cloud, r)));
     HX_TRY(hx_spectrum_create(&sp, &r->spectrum, comm));

@@ -26,13 +26,23 @@ unsigned hx_fft_flags(const hx_run_opts *o);
 /* The threads per rank a run uses (resolved: >= 1). */
 int hx_fft_threads(const hx_run_opts *o);
 
-/* Collective: the fewest CPUs any rank of comm may run on (its affinity mask; the online
- * processors where there is none). A launcher that binds each rank to one core (Open MPI's
- * default for 2 ranks or fewer) leaves threads nothing to gain. */
-hx_status hx_fft_cores(MPI_Comm comm, int *cores);
+/* Where the ranks of comm run, agreed over all of them: the fewest CPUs any rank may run on
+ * (its affinity mask; all online processors where there is none), the fewest online CPUs of a
+ * node and the most ranks on one node. */
+typedef struct hx_cpus {
+    int cores;      /* per rank */
+    int node_cpus;  /* per node */
+    int node_ranks; /* ranks sharing a node */
+} hx_cpus;
 
-/* 1 and the warning text in msg when threads per rank exceed cores, else 0. Not collective. */
-int hx_fft_threads_warning(int threads, int cores, char *msg, size_t len);
+/* Collective. A launcher that binds each rank to one core (Open MPI's default for 2 ranks or
+ * fewer) leaves threads nothing to gain; so do more ranks x threads than a node has CPUs. */
+hx_status hx_fft_cpus(MPI_Comm comm, hx_cpus *c);
+
+/* 1 and the warning text in msg when more than one thread per rank cannot all run at once (a
+ * rank bound to fewer CPUs, or a node with fewer CPUs than its ranks' threads), else 0. Not
+ * collective: every rank gets the same answer from the same hx_cpus. */
+int hx_fft_threads_warning(int threads, const hx_cpus *c, char *msg, size_t len);
 
 /* The name of an effort ("estimate", "measure", "patient") and the effort of a name (-1 if
  * none). */

@@ -299,21 +299,21 @@ int hx_cmd_inspect(int argc, char **argv, MPI_Comm comm, int rank)
     }
     hx_run_opts run = hx_run_defaults();
     run.threads = a.o.threads;
-    int cores = 1;
-    if ((st = hx_fft_cores(comm, &cores)) != HX_OK) return hx_cli_fail(st, rank);
+    hx_cpus cpus;
+    if ((st = hx_fft_cpus(comm, &cpus)) != HX_OK) return hx_cli_fail(st, rank);
     hx_timer *timer = NULL;
     if (a.timings) {
         st = hx_error_agree(comm, hx_timer_create(&timer, "inspect"));
         if (st != HX_OK) return hx_cli_fail(st, rank);
         hx_timer_note_text(timer, "file", a.o.cube.file);
         hx_timer_note(timer, "threads", hx_fft_threads(&run));
-        hx_timer_note(timer, "cores_per_rank", cores);
+        hx_timer_note(timer, "cores_per_rank", cpus.cores);
         a.o.timer = timer;
     }
     hx_log log;
     hx_log_init(&log, comm, a.verbosity, stderr);
     char warn[400];
-    if (hx_fft_threads_warning(hx_fft_threads(&run), cores, warn, sizeof warn)) hx_log_say(&log, HX_LOG_QUIET, "%s", warn);
+    if (hx_fft_threads_warning(hx_fft_threads(&run), &cpus, warn, sizeof warn)) hx_log_say(&log, HX_LOG_QUIET, "%s", warn);
     say_options(&log, &a);
     hx_diag d;
     hx_request q;

@@ -15,7 +15,8 @@ What is asserted, and where the expectation comes from:
   * a rank that may run on fewer CPUs than its threads (taskset to one CPU: what Open MPI's
     default binding does to a lone rank) is warned once, naming the launcher options that give
     it more (Open MPI mpiexec(1): --bind-to none, --map-by slot:PE=n), and gives the same report;
-    an unbound rank with CPUs enough is not warned;
+    an unbound rank with CPUs enough is not warned; 2 unbound ranks whose threads together
+    exceed the node's CPUs are warned once, with the numbers;
   * --threads 0, -1, 1.5 and x are refused with one line and exit 2.
 """
 
@@ -114,6 +115,18 @@ def affinity(args, hx, c, cube):
     if len(reports) == 2:
         c.check("the report is the same with the threads on one CPU or on two", len(set(reports.values())) == 1, "",
                 SRC_BITS)
+    # 2 unbound ranks with as many threads each as the node has CPUs: twice too many threads
+    ncpu = os.cpu_count() or 1
+    if 2 <= ncpu <= 8:
+        cmd = list(args.mpiexec) + ["--bind-to", "none", "-n", "2", args.helmix, "inspect", cube, "--threads", str(ncpu),
+                                    "--quiet"]
+        p = subprocess.run(cmd, capture_output=True, text=True, timeout=120, cwd=hx.tmp)
+        warned = [ln for ln in H.mpi_noise_free_lines(p.stderr) if "warning:" in ln]
+        c.check(f"2 ranks x {ncpu} threads on {ncpu} CPUs: exit 0 and one warning naming ranks per node and CPUs",
+                p.returncode == 0 and len(warned) == 1 and f"2 ranks per node x {ncpu} threads = {2 * ncpu}" in warned[0]
+                and f"a node has {ncpu} CPUs" in warned[0], f"rc={p.returncode} {warned}", "os.cpu_count (Python documentation)")
+    else:
+        print(f"SKIP  oversubscribed-node warning: {ncpu} CPUs here", flush=True)
 
 
 def body(args, hx, c):
