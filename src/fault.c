@@ -1,5 +1,6 @@
 /* fault.c — the test switches HELMIX_FAULT (one chosen rank fails in one chosen phase) and
- * HELMIX_STALL (every rank pauses once in one chosen phase), and the signal handlers that remove the files a run is writing.
+ * HELMIX_STALL (every rank pauses once in one chosen phase), and the signal handlers that
+ * remove the files a run is writing.
  * Invariant: the handler touches only memory prepared before the signal (fixed slots, a name
  * is complete before its slot is marked used) and calls only unlink, signal and raise. */
 #include "helmix/fault.h"

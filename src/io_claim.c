@@ -292,7 +292,7 @@ hx_status io_claim_take(io_claim *c, const char *path, MPI_Comm comm)
     /* Every rank guards both names: mpiexec passes a signal on to all ranks and sends SIGKILL as
      * soon as the first of them ends, so the first handler to run must clean up for the run. */
     if (st == HX_OK && c->rank != 0) {
-        hx_fault_guard_add(c->lock); /* first: the handler removes the newest name first */
+        hx_fault_guard_add(c->lock); /* first: the handler removes the highest slot first */
         hx_fault_guard_add(c->partial);
     }
     if (st == HX_OK) return HX_OK;
@@ -308,7 +308,6 @@ void io_claim_release(io_claim *c)
     hx_fault_guard_remove(c->xmf_partial);
     if (c->datafd >= 0) close(c->datafd);
     c->datafd = -1;
-    hx_fault_guard_remove(c->lock);
     if (c->lockfd >= 0) {
         /* while still holding it: a run that opened it before sees a removed lock; only if the
          * name is still this lock (another rank's signal handler may have removed it already) */
@@ -317,6 +316,7 @@ void io_claim_release(io_claim *c)
             unlink(c->lock);
         close(c->lockfd);
     }
+    hx_fault_guard_remove(c->lock); /* after the unlink: a signal before it still removes the lock */
     c->lockfd = -1;
     if (c->dirfd >= 0) close(c->dirfd);
     c->dirfd = -1;
