@@ -157,14 +157,7 @@ static hx_status inspect_option(void *ctx, const hx_opt *opt, const char *val)
     case O_QUIET: a->verbosity = HX_LOG_QUIET; break;
     case O_VERBOSE: a->verbosity = HX_LOG_DEBUG; break;
     case O_HELP: a->help = 1; break;
-    case O_THREADS: {
-        char *end = NULL;
-        long t = strtol(val, &end, 10);
-        if (!end || *end || t < 1 || t > 4096)
-            return hx_error_set(HX_ERR_ARG, "--threads %s: give a whole number from 1 to 4096", val);
-        o->threads = (int)t;
-        break;
-    }
+    case O_THREADS: return hx_opt_threads(val, &o->threads);
     case O_ORDER:
         if (!strcmp(val, "zyx")) o->cube.order = HX_ORDER_ZYX;
         else if (!strcmp(val, "xyz")) o->cube.order = HX_ORDER_XYZ;

@@ -79,13 +79,7 @@ static hx_status make_option(void *ctx, const hx_opt *o, const char *v)
         a->run.effort = (hx_effort)e;
         break;
     }
-    case O_THREADS: {
-        char *end = NULL;
-        long t = strtol(v, &end, 10);
-        if (!end || *end || t < 1 || t > 4096) return hx_error_set(HX_ERR_ARG, "--threads %s: give a whole number from 1 to 4096", v);
-        a->run.threads = (int)t;
-        break;
-    }
+    case O_THREADS: return hx_opt_threads(v, &a->run.threads);
     case O_QUIET: a->verbosity = HX_LOG_QUIET; break;
     case O_VERBOSE: a->verbosity = HX_LOG_DEBUG; break;
     default: a->help = 1; break;

@@ -106,7 +106,7 @@ int hx_cmd_plan(int argc, char **argv, MPI_Comm comm, int rank)
         st = hx_error_set(HX_ERR_ARG, "helmix plan runs on one process (launched on %d): --ranks says how many to plan for",
                           size);
     if (st == HX_OK) st = count_of(a.ranks, "--ranks", &ranks);
-    if (st == HX_OK && a.threads) st = count_of(a.threads, "--threads", &threads);
+    if (st == HX_OK && a.threads) st = hx_opt_threads(a.threads, &threads);
     if (st == HX_OK && a.mem) st = hx_plan_parse_size(a.mem, "--mem-per-rank", &budget);
     if (st == HX_OK) st = hx_cli_load_recipe(a.recipe, a.output, sets, a.nsets, &r, comm);
     /* the process as it stands: MPI and HDF5 are up (main.c), the rest is arithmetic */

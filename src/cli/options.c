@@ -15,6 +15,16 @@
 
 /* ---------------------------------------------------------------- parsing */
 
+hx_status hx_opt_threads(const char *value, int *threads)
+{
+    char *end = NULL;
+    long t = strtol(value, &end, 10);
+    if (end == value || *end || t < 1 || t > 4096)
+        return hx_error_set(HX_ERR_ARG, "--threads %s: give a whole number from 1 to 4096", value);
+    *threads = (int)t;
+    return HX_OK;
+}
+
 int hx_opt_distance(const char *a, const char *b)
 {
     size_t la = strlen(a), lb = strlen(b);

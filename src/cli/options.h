@@ -40,6 +40,9 @@ hx_status hx_opt_parse(const char *cmd, const hx_opt *table, int argc, char **ar
 /* The options part of a command's help, generated from its table. */
 void hx_opt_help(FILE *out, const hx_opt *table);
 
+/* The value of --threads: a whole number from 1 to 4096, else HX_ERR_ARG naming it. */
+hx_status hx_opt_threads(const char *value, int *threads);
+
 /* Edit distance (insertions, deletions, substitutions) of two short strings. */
 int hx_opt_distance(const char *a, const char *b);
 
