@@ -1364,8 +1364,10 @@ static hx_status check_density(hx_recipe *r)
     hx_density_model m = r->density_model;
     int cloud = hx_recipe_has_cloud(r);
     if ((int)m < 0 || (int)m > HX_DENSITY_LOGNORMAL) return invalid(r, "density", "model", "unknown model");
-    if ((m == HX_DENSITY_UNIFORM || m == HX_DENSITY_LOGNORMAL) && isnan(r->density_mean.value))
-        r->density_mean.value = 1.0;
+    if ((m == HX_DENSITY_UNIFORM || m == HX_DENSITY_LOGNORMAL) && isnan(r->density_mean.value)) {
+        r->density_mean.value = 1.0; /* with its text, as if written: the rendering reads back the same */
+        snprintf(r->density_mean.text, sizeof r->density_mean.text, "1");
+    }
     if (m == HX_DENSITY_SPHERE) {
         if (isnan(r->cloud_radius.value)) return invalid(r, "density", "radius", "a sphere needs its radius");
         if (isnan(r->density_mean.value) == isnan(r->cloud_mass.value))
