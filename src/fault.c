@@ -18,6 +18,14 @@
 static const char *const phases[] = {"alloc", "plan", "create", "write", "close", "rename", "xdmf", "verify"};
 #define NPHASE ((int)(sizeof phases / sizeof phases[0]))
 
+/* The index of a phase name, -1 for none. */
+static int phase_index(const char *name)
+{
+    for (int p = 0; p < NPHASE; p++)
+        if (!strcmp(name, phases[p])) return p;
+    return -1;
+}
+
 /* The parsed switch: read once (every rank reads the same environment under mpiexec). */
 static struct {
     int parsed, bad, rank, phase, nth;
@@ -40,10 +48,8 @@ static void parse_switch(void)
         nth = end && !*end && k >= 1 && k <= 1000000 ? (int)k : -1;
         used = (int)strlen(v);
     }
-    sw.bad = n != 2 || rank < 0 || nth < 1 || v[used] != '\0';
-    for (int p = 0; p < NPHASE && !sw.bad; p++)
-        if (!strcmp(name, phases[p])) sw.phase = p;
-    if (sw.phase < 0) sw.bad = 1;
+    sw.phase = phase_index(name);
+    sw.bad = n != 2 || rank < 0 || nth < 1 || v[used] != '\0' || sw.phase < 0;
     sw.rank = rank, sw.nth = nth;
 }
 
@@ -64,8 +70,7 @@ static void parse_stall(void)
     int used = 0;
     double t = -1.0;
     stall.bad = sscanf(v, "%31[a-z]:%lf%n", name, &t, &used) != 2 || v[used] != '\0' || !(t > 0.0 && t <= 3600.0);
-    for (int p = 0; p < NPHASE && !stall.bad; p++)
-        if (!strcmp(name, phases[p])) stall.phase = p;
+    stall.phase = phase_index(name);
     if (stall.phase < 0) stall.bad = 1;
     stall.seconds = t;
 }
@@ -95,9 +100,8 @@ hx_status hx_fault_point(const char *phase, MPI_Comm comm)
     if (sw.bad)
         return hx_error_set(HX_ERR_ARG, "HELMIX_FAULT=%s: write RANK:PHASE or RANK:PHASE:N with PHASE one of alloc, "
                                         "plan, create, write, close, rename, xdmf, verify (a switch for tests)", sw.text);
-    int p = 0, rank = 0;
-    while (p < NPHASE && strcmp(phase, phases[p])) p++;
-    if (p == NPHASE || p != sw.phase || MPI_Comm_rank(comm, &rank) != MPI_SUCCESS || rank != sw.rank) return HX_OK;
+    int p = phase_index(phase), rank = 0;
+    if (p < 0 || p != sw.phase || MPI_Comm_rank(comm, &rank) != MPI_SUCCESS || rank != sw.rank) return HX_OK;
     if (++sw.passes[p] != sw.nth) return HX_OK;
     return hx_error_set(HX_ERR_IO, "injected fault: rank %d failed in phase '%s' (pass %d) as HELMIX_FAULT=%s asks",
                         rank, phase, sw.nth, sw.text);

@@ -759,13 +759,13 @@ hx_status hx_make_run(const hx_recipe *r, int force, const hx_run_opts *run, con
     HX_TRY(make_plan(r, run, &R.g, log, &plan, comm));
     t = MPI_Wtime();
     hx_field_opts fo = {(hx_precision)r->compute, hx_make_needs_doubles(r), plan.choice == HX_DRAWS_KEEP,
-                        hx_fft_flags(run), hx_fft_threads(run), tm};
+                        hx_fft_flags(run), R.threads, tm};
     HX_TRY(hx_field_create(&R.f, &R.g, &fo, comm));
     HX_TRY(hx_fft_end(run, comm));
     R.res.t_plan = MPI_Wtime() - t;
     hx_timer_end(tm, "plan", 0, 0);
     hx_timer_grid(tm, (int64_t[3]){R.g.n[0], R.g.n[1], R.g.n[2]});
-    hx_timer_note(tm, "threads", hx_fft_threads(run));
+    hx_timer_note(tm, "threads", R.threads);
     hx_timer_note_text(tm, "compute", r->compute == HX_PREC_DOUBLE ? "double" : "single");
     hx_timer_note_text(tm, "precision", r->precision == HX_PREC_DOUBLE ? "double" : "single");
     hx_timer_note_text(tm, "effort", hx_fft_effort_name(run ? run->effort : HX_EFFORT_ESTIMATE));
